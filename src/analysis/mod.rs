@@ -1,0 +1,1 @@
+//! Pure analysis: the model of a revision, its flags, run analysis and trends.

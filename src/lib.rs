@@ -1,0 +1,24 @@
+//! Eddybench: a build logbook and test-results tracker for self-oscillating induction heaters.
+
+/// Pure analysis: the model of a revision, flags, run analysis and trends.
+pub mod analysis;
+/// Reading channels and their names.
+pub mod channel;
+/// Start-up configuration.
+pub mod config;
+/// The demo scenario.
+pub mod demo;
+/// The parts contract of a revision.
+pub mod parts;
+/// Pure driver physics: each formula once, with its source.
+pub mod physics;
+/// Passwords, session ids and tokens.
+pub mod secrets;
+/// The SQLite store, the only module that speaks SQL.
+pub mod store;
+/// Values with SI prefixes and units: parsing and engineering notation.
+pub mod units;
+/// Pages, the JSON API and their middleware.
+pub mod web;
+
+pub use web::{AppState, app};

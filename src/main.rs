@@ -1,0 +1,247 @@
+//! The `eddybench` command: parses the command line and dispatches.
+
+use std::io::Read;
+use std::net::SocketAddr;
+use std::path::PathBuf;
+use std::sync::Arc;
+
+use anyhow::{Context, bail};
+use clap::{Parser, Subcommand, ValueEnum};
+
+use eddybench::config::{Config, DEFAULT_DATA_DIR};
+use eddybench::secrets::{generate_password, hash_password};
+use eddybench::store::{Store, UserRole};
+use eddybench::{AppState, app};
+
+/// Eddybench: a build logbook and test-results tracker for self-oscillating induction heaters.
+#[derive(Parser)]
+#[command(version, about, long_about = None)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(clap::Args, Clone)]
+struct DataDir {
+    /// Directory holding the database and attachments [default: ./eddybench-data]
+    #[arg(long, env = "EDDYBENCH_DATA", global = true)]
+    data_dir: Option<PathBuf>,
+}
+
+impl DataDir {
+    fn path(&self) -> PathBuf {
+        self.data_dir
+            .clone()
+            .unwrap_or_else(|| PathBuf::from(DEFAULT_DATA_DIR))
+    }
+}
+
+#[derive(clap::Args)]
+struct ServeArgs {
+    /// Address to listen on
+    #[arg(long, default_value = "127.0.0.1:8080")]
+    listen: SocketAddr,
+    /// Mark cookies Secure and send HSTS (set this when users reach the server over https)
+    #[arg(long, env = "EDDYBENCH_SECURE_COOKIES")]
+    secure_cookies: bool,
+    /// The origin users reach the server at, e.g. https://heater.example.org (behind a proxy)
+    #[arg(long, env = "EDDYBENCH_PUBLIC_ORIGIN")]
+    public_origin: Option<String>,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Serve the logbook in the data directory
+    Serve {
+        #[command(flatten)]
+        serve: ServeArgs,
+        #[command(flatten)]
+        data: DataDir,
+    },
+    /// Serve a throwaway instance seeded with the demo builds (a temporary data directory
+    /// unless --data-dir is given) and print its address and a demo login
+    Demo {
+        #[command(flatten)]
+        serve: ServeArgs,
+        #[command(flatten)]
+        data: DataDir,
+    },
+    /// Manage accounts
+    User {
+        #[command(subcommand)]
+        command: UserCommand,
+        #[command(flatten)]
+        data: DataDir,
+    },
+}
+
+#[derive(Clone, Copy, ValueEnum)]
+enum RoleArg {
+    Admin,
+    Editor,
+    Viewer,
+}
+
+impl From<RoleArg> for UserRole {
+    fn from(role: RoleArg) -> UserRole {
+        match role {
+            RoleArg::Admin => UserRole::Admin,
+            RoleArg::Editor => UserRole::Editor,
+            RoleArg::Viewer => UserRole::Viewer,
+        }
+    }
+}
+
+#[derive(Subcommand)]
+enum UserCommand {
+    /// Add an account; prints a generated password unless --password-stdin is given
+    Add {
+        /// Sign-in name
+        name: String,
+        /// What the account may do: a viewer reads, an editor also writes, an admin also
+        /// manages users
+        #[arg(long, value_enum)]
+        role: RoleArg,
+        /// Read the password from standard input instead of generating one
+        #[arg(long)]
+        password_stdin: bool,
+        /// Name shown on pages [default: the sign-in name]
+        #[arg(long)]
+        display_name: Option<String>,
+    },
+    /// List accounts
+    List,
+}
+
+#[tokio::main]
+async fn main() -> anyhow::Result<()> {
+    tracing_subscriber::fmt()
+        .with_env_filter(
+            tracing_subscriber::EnvFilter::try_from_default_env()
+                .unwrap_or_else(|_| "eddybench=info,tower_http=warn".into()),
+        )
+        .init();
+    match Cli::parse().command {
+        Command::Serve { serve, data } => {
+            let store = Store::open(&data.path()).await?;
+            run_server(store, config_for(&serve, data.path()), serve.listen, None).await
+        }
+        Command::Demo { serve, data } => {
+            // Keep the temporary directory alive for as long as the server runs.
+            let (path, _temporary) = match data.data_dir {
+                Some(path) => (path, None),
+                None => {
+                    let dir = tempfile::Builder::new()
+                        .prefix("eddybench-demo-")
+                        .tempdir()?;
+                    (dir.path().to_path_buf(), Some(dir))
+                }
+            };
+            let store = Store::open(&path).await?;
+            let login = eddybench::demo::seed(&store).await?;
+            let banner = format!(
+                "Demo data in {}\nSign in as `{}` with password `{}` (editor), or `{}` / `{}` (viewer).",
+                path.display(),
+                login.editor_name,
+                login.editor_password,
+                login.viewer_name,
+                login.viewer_password
+            );
+            run_server(store, config_for(&serve, path), serve.listen, Some(banner)).await
+        }
+        Command::User { command, data } => {
+            let store = Store::open(&data.path()).await?;
+            user_command(&store, command).await
+        }
+    }
+}
+
+fn config_for(serve: &ServeArgs, data_dir: PathBuf) -> Config {
+    let mut config = Config::new(data_dir);
+    config.secure_cookies = serve.secure_cookies
+        || serve
+            .public_origin
+            .as_deref()
+            .is_some_and(|o| o.starts_with("https://"));
+    config.public_origin = serve.public_origin.clone();
+    config
+}
+
+async fn run_server(
+    store: Store,
+    config: Config,
+    listen: SocketAddr,
+    banner: Option<String>,
+) -> anyhow::Result<()> {
+    let listener = tokio::net::TcpListener::bind(listen)
+        .await
+        .with_context(|| format!("cannot listen on {listen}"))?;
+    let address = listener.local_addr()?;
+    let router = app(AppState {
+        store,
+        config: Arc::new(config),
+    });
+    println!("Eddybench is serving at http://{address}/");
+    if let Some(banner) = banner {
+        println!("{banner}");
+    }
+    // axum::serve leaves Nagle's algorithm on; small responses then wait for ACKs.
+    let listener = axum::serve::ListenerExt::tap_io(listener, |tcp| {
+        let _ = tcp.set_nodelay(true);
+    });
+    axum::serve(listener, router)
+        .with_graceful_shutdown(async {
+            let _ = tokio::signal::ctrl_c().await;
+        })
+        .await?;
+    Ok(())
+}
+
+async fn user_command(store: &Store, command: UserCommand) -> anyhow::Result<()> {
+    match command {
+        UserCommand::Add {
+            name,
+            role,
+            password_stdin,
+            display_name,
+        } => {
+            let name = name.trim().to_string();
+            if name.is_empty() || name.len() > 64 || name.chars().any(char::is_whitespace) {
+                bail!("a user name is 1 to 64 characters without spaces");
+            }
+            let (password, generated) = if password_stdin {
+                let mut text = String::new();
+                std::io::stdin().read_to_string(&mut text)?;
+                let text = text.trim_end_matches(['\n', '\r']).to_string();
+                if text.chars().count() < 10 {
+                    bail!("use a password of at least 10 characters");
+                }
+                (text, false)
+            } else {
+                (generate_password(), true)
+            };
+            let to_hash = password.clone();
+            let hash = tokio::task::spawn_blocking(move || hash_password(&to_hash)).await?;
+            let display = display_name.unwrap_or_else(|| name.clone());
+            let role = UserRole::from(role);
+            store.create_user(&name, &display, role, &hash).await?;
+            println!("Added {name} ({}).", role.as_str());
+            if generated {
+                // Printed once; only its hash is stored.
+                println!("Password: {password}");
+            }
+            Ok(())
+        }
+        UserCommand::List => {
+            for user in store.list_users().await? {
+                println!(
+                    "{:<24} {:<8} {}",
+                    user.name,
+                    user.role.as_str(),
+                    user.display_name
+                );
+            }
+            Ok(())
+        }
+    }
+}

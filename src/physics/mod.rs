@@ -1,0 +1,1 @@
+//! Pure driver physics: each formula in one function, with its source.

@@ -1,0 +1,128 @@
+//! Builds: one heater project each.
+
+use serde::Serialize;
+
+use super::{BuildId, Store, StoreError, StoreResult, UserId, now_unix_s};
+
+#[derive(Debug, Clone, Serialize, sqlx::FromRow)]
+pub struct Build {
+    pub id: BuildId,
+    pub slug: String,
+    pub name: String,
+    pub purpose: String,
+    pub notes: String,
+    pub created_at: i64,
+}
+
+/// A line of the builds list.
+#[derive(Debug, Clone, Serialize, sqlx::FromRow)]
+pub struct BuildSummary {
+    pub slug: String,
+    pub name: String,
+    pub purpose: String,
+    pub latest_revision: Option<i64>,
+    pub last_run_at: Option<i64>,
+    pub run_count: i64,
+}
+
+pub struct NewBuild<'a> {
+    pub name: &'a str,
+    pub purpose: &'a str,
+    pub notes: &'a str,
+    pub created_by: Option<UserId>,
+}
+
+/// A URL-safe slug from a build's name: lower-case ASCII letters, digits and single dashes.
+pub fn slug_from_name(name: &str) -> String {
+    let mut slug = String::new();
+    for c in name.chars() {
+        if c.is_ascii_alphanumeric() {
+            slug.push(c.to_ascii_lowercase());
+        } else if !slug.ends_with('-') && !slug.is_empty() {
+            slug.push('-');
+        }
+    }
+    let slug = slug.trim_end_matches('-');
+    let slug: String = slug.chars().take(48).collect();
+    if slug.is_empty() {
+        "build".into()
+    } else {
+        slug.trim_end_matches('-').to_string()
+    }
+}
+
+impl Store {
+    /// Creates a build under a slug made from its name, numbered (`-2`, `-3`) when taken.
+    pub async fn create_build(&self, new: &NewBuild<'_>) -> StoreResult<Build> {
+        let base = slug_from_name(new.name);
+        let mut tx = self.begin_write().await?;
+        let taken: Vec<String> =
+            sqlx::query_scalar("SELECT slug FROM builds WHERE slug = ? OR slug LIKE ? || '-%'")
+                .bind(&base)
+                .bind(&base)
+                .fetch_all(&mut *tx)
+                .await?;
+        let slug = (1..)
+            .map(|n| {
+                if n == 1 {
+                    base.clone()
+                } else {
+                    format!("{base}-{n}")
+                }
+            })
+            .find(|candidate| !taken.contains(candidate))
+            .expect("an unbounded range always yields a free slug");
+        let build: Build = sqlx::query_as(
+            "INSERT INTO builds (slug, name, purpose, notes, created_by, created_at)
+             VALUES (?, ?, ?, ?, ?, ?)
+             RETURNING id, slug, name, purpose, notes, created_at",
+        )
+        .bind(&slug)
+        .bind(new.name)
+        .bind(new.purpose)
+        .bind(new.notes)
+        .bind(new.created_by)
+        .bind(now_unix_s())
+        .fetch_one(&mut *tx)
+        .await?;
+        tx.commit().await?;
+        Ok(build)
+    }
+
+    pub async fn build_by_slug(&self, slug: &str) -> StoreResult<Build> {
+        sqlx::query_as(
+            "SELECT id, slug, name, purpose, notes, created_at FROM builds WHERE slug = ?",
+        )
+        .bind(slug)
+        .fetch_optional(&self.pool)
+        .await?
+        .ok_or(StoreError::NotFound)
+    }
+
+    /// The builds list: each build with its latest revision and its last run, newest work first.
+    pub async fn list_builds(&self) -> StoreResult<Vec<BuildSummary>> {
+        Ok(sqlx::query_as(
+            "SELECT b.slug, b.name, b.purpose,
+                    (SELECT MAX(number) FROM revisions r WHERE r.build_id = b.id) AS latest_revision,
+                    (SELECT MAX(started_at) FROM runs u WHERE u.build_id = b.id) AS last_run_at,
+                    (SELECT COUNT(*) FROM runs u WHERE u.build_id = b.id) AS run_count
+             FROM builds b
+             ORDER BY COALESCE(last_run_at, b.created_at) DESC, b.name",
+        )
+        .fetch_all(&self.pool)
+        .await?)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::slug_from_name;
+
+    #[test]
+    fn slugs_are_url_safe() {
+        assert_eq!(slug_from_name("Bench heater Mk II"), "bench-heater-mk-ii");
+        assert_eq!(slug_from_name("  --Ünïcode!! heater  "), "n-code-heater");
+        assert_eq!(slug_from_name("!!!"), "build");
+        assert!(slug_from_name(&"x".repeat(200)).len() <= 48);
+    }
+}

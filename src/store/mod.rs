@@ -1,0 +1,126 @@
+//! The only module that speaks SQL: one file per aggregate, all on one `Store`.
+
+mod builds;
+mod readings;
+mod revisions;
+mod runs;
+mod sessions;
+mod users;
+
+use std::path::Path;
+use std::str::FromStr;
+use std::time::Duration;
+
+use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions, SqliteSynchronous};
+use sqlx::{Sqlite, SqlitePool, Transaction};
+
+pub use builds::{Build, BuildSummary, NewBuild};
+pub use readings::{NewReading, ReadingRow};
+pub use revisions::{Revision, revision_number};
+pub use runs::{NewRun, Outcome, Run, RunFinish};
+pub use sessions::SessionUser;
+pub use users::{Role as UserRole, User};
+
+/// Errors of the store: a row that is not there, a uniqueness clash, or the database itself.
+#[derive(Debug, thiserror::Error)]
+pub enum StoreError {
+    #[error("not found")]
+    NotFound,
+    #[error("{0}")]
+    Conflict(String),
+    #[error(transparent)]
+    Database(#[from] sqlx::Error),
+    #[error("stored data is malformed: {0}")]
+    Corrupt(String),
+}
+
+pub type StoreResult<T> = Result<T, StoreError>;
+
+macro_rules! id_type {
+    ($name:ident) => {
+        #[derive(
+            Debug,
+            Clone,
+            Copy,
+            PartialEq,
+            Eq,
+            Hash,
+            PartialOrd,
+            Ord,
+            sqlx::Type,
+            serde::Serialize,
+            serde::Deserialize,
+        )]
+        #[sqlx(transparent)]
+        #[serde(transparent)]
+        pub struct $name(pub i64);
+
+        impl std::fmt::Display for $name {
+            fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+                self.0.fmt(f)
+            }
+        }
+    };
+}
+id_type!(UserId);
+id_type!(BuildId);
+id_type!(RevisionId);
+id_type!(RunId);
+id_type!(ReadingId);
+
+/// The logbook database.
+#[derive(Clone, Debug)]
+pub struct Store {
+    pool: SqlitePool,
+}
+
+/// The database file inside a data directory.
+pub const DATABASE_FILE: &str = "eddybench.db";
+
+impl Store {
+    /// Opens (creating when missing) the logbook in `data_dir` and runs the embedded migrations.
+    pub async fn open(data_dir: &Path) -> anyhow::Result<Store> {
+        std::fs::create_dir_all(data_dir)?;
+        let path = data_dir.join(DATABASE_FILE);
+        let options = SqliteConnectOptions::from_str(&format!("sqlite://{}", path.display()))?
+            .create_if_missing(true)
+            .journal_mode(SqliteJournalMode::Wal)
+            // A logged measurement must survive a power cut at the bench.
+            .synchronous(SqliteSynchronous::Full)
+            .foreign_keys(true)
+            .busy_timeout(Duration::from_secs(5));
+        let pool = SqlitePoolOptions::new()
+            .max_connections(8)
+            .connect_with(options)
+            .await?;
+        sqlx::migrate!("./migrations").run(&pool).await?;
+        Ok(Store { pool })
+    }
+
+    /// Whether the database answers (for `/healthz`).
+    pub async fn ping(&self) -> StoreResult<()> {
+        sqlx::query("SELECT 1").execute(&self.pool).await?;
+        Ok(())
+    }
+
+    /// A write transaction that takes the write lock up front, so a read-then-write cannot be
+    /// overtaken by another writer between its read and its write.
+    async fn begin_write(&self) -> StoreResult<Transaction<'static, Sqlite>> {
+        Ok(self.pool.begin_with("BEGIN IMMEDIATE").await?)
+    }
+}
+
+/// Seconds since the Unix epoch, the time format of every table.
+pub fn now_unix_s() -> i64 {
+    time::OffsetDateTime::now_utc().unix_timestamp()
+}
+
+/// Turns SQLite's unique-constraint failure into a conflict with a message a person can act on.
+fn conflict_on_unique(error: sqlx::Error, message: &str) -> StoreError {
+    match &error {
+        sqlx::Error::Database(db) if db.is_unique_violation() => {
+            StoreError::Conflict(message.to_string())
+        }
+        _ => StoreError::Database(error),
+    }
+}

@@ -1,0 +1,147 @@
+//! Accounts.
+
+use serde::Serialize;
+
+use sqlx::AssertSqlSafe;
+
+use super::{Store, StoreError, StoreResult, UserId, conflict_on_unique, now_unix_s};
+
+/// What an account may do; ordered so that `role >= Role::Editor` reads as "may write".
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Role {
+    Viewer,
+    Editor,
+    Admin,
+}
+
+impl Role {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Role::Viewer => "viewer",
+            Role::Editor => "editor",
+            Role::Admin => "admin",
+        }
+    }
+
+    pub fn parse(text: &str) -> Option<Role> {
+        match text {
+            "viewer" => Some(Role::Viewer),
+            "editor" => Some(Role::Editor),
+            "admin" => Some(Role::Admin),
+            _ => None,
+        }
+    }
+}
+
+#[derive(Debug, Clone)]
+pub struct User {
+    pub id: UserId,
+    pub name: String,
+    pub display_name: String,
+    pub role: Role,
+    pub password_hash: String,
+    pub created_at: i64,
+}
+
+#[derive(sqlx::FromRow)]
+struct UserRow {
+    id: UserId,
+    name: String,
+    display_name: String,
+    role: String,
+    password_hash: String,
+    created_at: i64,
+}
+
+impl TryFrom<UserRow> for User {
+    type Error = StoreError;
+    fn try_from(row: UserRow) -> StoreResult<User> {
+        Ok(User {
+            id: row.id,
+            role: Role::parse(&row.role)
+                .ok_or_else(|| StoreError::Corrupt(format!("role {}", row.role)))?,
+            name: row.name,
+            display_name: row.display_name,
+            password_hash: row.password_hash,
+            created_at: row.created_at,
+        })
+    }
+}
+
+const USER_COLUMNS: &str = "id, name, display_name, role, password_hash, created_at";
+
+impl Store {
+    pub async fn create_user(
+        &self,
+        name: &str,
+        display_name: &str,
+        role: Role,
+        password_hash: &str,
+    ) -> StoreResult<UserId> {
+        let id = sqlx::query_scalar(
+            "INSERT INTO users (name, display_name, role, password_hash, created_at)
+             VALUES (?, ?, ?, ?, ?) RETURNING id",
+        )
+        .bind(name)
+        .bind(display_name)
+        .bind(role.as_str())
+        .bind(password_hash)
+        .bind(now_unix_s())
+        .fetch_one(&self.pool)
+        .await
+        .map_err(|e| conflict_on_unique(e, "a user of that name already exists"))?;
+        Ok(id)
+    }
+
+    pub async fn user_by_name(&self, name: &str) -> StoreResult<Option<User>> {
+        let row: Option<UserRow> = sqlx::query_as(AssertSqlSafe(format!(
+            "SELECT {USER_COLUMNS} FROM users WHERE name = ?"
+        )))
+        .bind(name)
+        .fetch_optional(&self.pool)
+        .await?;
+        row.map(User::try_from).transpose()
+    }
+
+    pub async fn list_users(&self) -> StoreResult<Vec<User>> {
+        let rows: Vec<UserRow> = sqlx::query_as(AssertSqlSafe(format!(
+            "SELECT {USER_COLUMNS} FROM users ORDER BY name"
+        )))
+        .fetch_all(&self.pool)
+        .await?;
+        rows.into_iter().map(User::try_from).collect()
+    }
+
+    /// Counts a failed sign-in under the name that was typed.
+    pub async fn record_login_failure(&self, name: &str) -> StoreResult<()> {
+        sqlx::query(
+            "INSERT INTO login_failures (name, failures, last_failed_at) VALUES (?, 1, ?)
+             ON CONFLICT (name) DO UPDATE
+             SET failures = failures + 1, last_failed_at = excluded.last_failed_at",
+        )
+        .bind(name)
+        .bind(now_unix_s())
+        .execute(&self.pool)
+        .await?;
+        Ok(())
+    }
+
+    /// Failures so far under a name and the time of the last one.
+    pub async fn login_failures(&self, name: &str) -> StoreResult<Option<(i64, i64)>> {
+        Ok(
+            sqlx::query_as("SELECT failures, last_failed_at FROM login_failures WHERE name = ?")
+                .bind(name)
+                .fetch_optional(&self.pool)
+                .await?,
+        )
+    }
+
+    pub async fn clear_login_failures(&self, name: &str) -> StoreResult<()> {
+        sqlx::query("DELETE FROM login_failures WHERE name = ?")
+            .bind(name)
+            .execute(&self.pool)
+            .await?;
+        Ok(())
+    }
+}

@@ -1,0 +1,189 @@
+//! The builds list, a new build, and a build's page.
+
+use askama::Template;
+use askama_web::WebTemplate;
+use axum::extract::{Path, State};
+use axum::response::{IntoResponse, Redirect, Response};
+use axum::routing::get;
+use axum::{Form, Router};
+use serde::Deserialize;
+
+use super::chrome::Chrome;
+use super::forms::FieldErrors;
+use super::session::{CurrentUser, Editor};
+use super::view::{RunLine, date_time};
+use super::{AppState, Result};
+use crate::store::{Build, BuildSummary, NewBuild, Revision};
+
+pub fn router() -> Router<AppState> {
+    Router::new()
+        .route("/", get(list))
+        .route("/builds", axum::routing::post(create))
+        .route("/builds/new", get(new_form))
+        .route("/builds/{slug}", get(show))
+}
+
+#[derive(Template, WebTemplate)]
+#[template(path = "builds/list.html")]
+struct ListPage {
+    chrome: Chrome,
+    builds: Vec<BuildLine>,
+}
+
+struct BuildLine {
+    summary: BuildSummary,
+    last_run: String,
+}
+
+async fn list(State(state): State<AppState>, CurrentUser(user): CurrentUser) -> Result<ListPage> {
+    let builds = state
+        .store
+        .list_builds()
+        .await?
+        .into_iter()
+        .map(|summary| BuildLine {
+            last_run: summary
+                .last_run_at
+                .map(date_time)
+                .unwrap_or_else(|| "no runs yet".into()),
+            summary,
+        })
+        .collect();
+    Ok(ListPage {
+        chrome: Chrome::new("Builds", &user),
+        builds,
+    })
+}
+
+#[derive(Template, WebTemplate)]
+#[template(path = "builds/new.html")]
+struct NewPage {
+    chrome: Chrome,
+    name: String,
+    purpose: String,
+    notes: String,
+    errors: FieldErrors,
+}
+
+async fn new_form(Editor(user): Editor) -> NewPage {
+    NewPage {
+        chrome: Chrome::new("New build", &user),
+        name: String::new(),
+        purpose: String::new(),
+        notes: String::new(),
+        errors: FieldErrors::default(),
+    }
+}
+
+#[derive(Deserialize)]
+struct NewBuildForm {
+    name: String,
+    #[serde(default)]
+    purpose: String,
+    #[serde(default)]
+    notes: String,
+}
+
+async fn create(
+    State(state): State<AppState>,
+    Editor(user): Editor,
+    Form(form): Form<NewBuildForm>,
+) -> Result<Response> {
+    let name = form.name.trim();
+    let mut errors = FieldErrors::default();
+    if name.is_empty() {
+        errors.add("name", "give the build a name");
+    } else if name.chars().count() > 120 {
+        errors.add("name", "keep the name under 120 characters");
+    }
+    if form.purpose.len() > 4000 {
+        errors.add("purpose", "keep the purpose under 4000 characters");
+    }
+    if form.notes.len() > 20_000 {
+        errors.add("notes", "keep the notes under 20000 characters");
+    }
+    if !errors.is_empty() {
+        let page = NewPage {
+            chrome: Chrome::new("New build", &user),
+            name: form.name,
+            purpose: form.purpose,
+            notes: form.notes,
+            errors,
+        };
+        return Ok((axum::http::StatusCode::UNPROCESSABLE_ENTITY, page).into_response());
+    }
+    let build = state
+        .store
+        .create_build(&NewBuild {
+            name,
+            purpose: form.purpose.trim(),
+            notes: form.notes.trim(),
+            created_by: Some(user.user_id),
+        })
+        .await?;
+    Ok(Redirect::to(&format!("/builds/{}", build.slug)).into_response())
+}
+
+#[derive(Template, WebTemplate)]
+#[template(path = "builds/show.html")]
+struct ShowPage {
+    chrome: Chrome,
+    build: Build,
+    revisions: Vec<RevisionLine>,
+    runs: Vec<RunLine>,
+}
+
+struct RevisionLine {
+    label: String,
+    parent: String,
+    created: String,
+    notes: String,
+    summary: String,
+}
+
+/// A one-line description of a revision's tank and coil, for lists.
+pub fn parts_summary(revision: &Revision) -> String {
+    use crate::units::{Unit, eng};
+    let parts = &revision.parts;
+    let mut bits = Vec::new();
+    if let Some(c) = &parts.tank_capacitor {
+        bits.push(format!(
+            "{} × {}",
+            c.count,
+            eng(c.capacitance_f, Unit::Farad)
+        ));
+    }
+    if let Some(l) = parts.work_coil.as_ref().and_then(|c| c.inductance_h) {
+        bits.push(format!("coil {}", eng(l, Unit::Henry)));
+    }
+    if let Some(ch) = &parts.choke {
+        bits.push(format!("chokes {}", eng(ch.inductance_h, Unit::Henry)));
+    }
+    bits.join(", ")
+}
+
+async fn show(
+    State(state): State<AppState>,
+    CurrentUser(user): CurrentUser,
+    Path(slug): Path<String>,
+) -> Result<ShowPage> {
+    let build = state.store.build_by_slug(&slug).await?;
+    let revisions = state.store.revisions_of_build(build.id).await?;
+    let runs = state.store.runs_of_build(build.id, 50).await?;
+    Ok(ShowPage {
+        chrome: Chrome::new(build.name.clone(), &user),
+        revisions: revisions
+            .iter()
+            .rev()
+            .map(|r| RevisionLine {
+                label: r.label(),
+                parent: r.parent_number.map(|n| format!("r{n}")).unwrap_or_default(),
+                created: date_time(r.created_at),
+                notes: r.notes.clone(),
+                summary: parts_summary(r),
+            })
+            .collect(),
+        runs: runs.iter().map(RunLine::from_run).collect(),
+        build,
+    })
+}
