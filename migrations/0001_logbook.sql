@@ -75,7 +75,10 @@ CREATE TABLE runs (
     build_id                      INTEGER NOT NULL REFERENCES builds(id) ON DELETE CASCADE,
     revision_id                   INTEGER NOT NULL REFERENCES revisions(id),
     started_at                    INTEGER NOT NULL,
-    operator_id                   INTEGER REFERENCES users(id) ON DELETE SET NULL,
+    -- Who stood at the bench (free text: not everyone at the bench has an account), and the
+    -- account that logged the run.
+    operator                      TEXT NOT NULL DEFAULT '',
+    created_by                    INTEGER REFERENCES users(id) ON DELETE SET NULL,
     supply_setting_v              REAL,
     supply_current_limit_a        REAL,
     load                          TEXT NOT NULL CHECK (load IN ('none', 'ferrous', 'non_ferrous', 'water')),

@@ -124,3 +124,27 @@ fn conflict_on_unique(error: sqlx::Error, message: &str) -> StoreError {
         _ => StoreError::Database(error),
     }
 }
+
+impl Store {
+    /// Rows in a table, for tests that check that nothing was saved. Only the logbook's own
+    /// table names are accepted.
+    pub async fn count_rows(&self, table: &str) -> StoreResult<i64> {
+        const TABLES: [&str; 8] = [
+            "users",
+            "sessions",
+            "builds",
+            "revisions",
+            "parts",
+            "runs",
+            "readings",
+            "login_failures",
+        ];
+        if !TABLES.contains(&table) {
+            return Err(StoreError::NotFound);
+        }
+        let sql = format!("SELECT COUNT(*) FROM {table}");
+        Ok(sqlx::query_scalar(sqlx::AssertSqlSafe(sql))
+            .fetch_one(&self.pool)
+            .await?)
+    }
+}

@@ -49,7 +49,7 @@ pub struct Run {
     pub revision_id: RevisionId,
     pub revision_number: i64,
     pub started_at: i64,
-    pub operator: Option<String>,
+    pub operator: String,
     pub supply_setting_v: Option<f64>,
     pub supply_current_limit_a: Option<f64>,
     pub load: String,
@@ -82,7 +82,8 @@ impl Run {
 pub struct NewRun<'a> {
     pub build_id: BuildId,
     pub revision_id: RevisionId,
-    pub operator_id: Option<UserId>,
+    pub operator: &'a str,
+    pub created_by: Option<UserId>,
     pub started_at: Option<i64>,
     pub supply_setting_v: Option<f64>,
     pub supply_current_limit_a: Option<f64>,
@@ -101,12 +102,11 @@ pub struct RunFinish<'a> {
 }
 
 const RUN_SELECT: &str = "SELECT u.id, u.build_id, u.revision_id, r.number AS revision_number,
-        u.started_at, o.display_name AS operator, u.supply_setting_v, u.supply_current_limit_a,
+        u.started_at, u.operator, u.supply_setting_v, u.supply_current_limit_a,
         u.load, u.water_mass_kg, u.vessel_heat_capacity_j_per_k, u.notes, u.channels_json,
         u.finished_at, u.outcome, u.failed_part, u.outcome_note,
         (SELECT COUNT(*) FROM readings g WHERE g.run_id = u.id) AS reading_count
-     FROM runs u JOIN revisions r ON r.id = u.revision_id
-     LEFT JOIN users o ON o.id = u.operator_id";
+     FROM runs u JOIN revisions r ON r.id = u.revision_id";
 
 impl Store {
     pub async fn create_run(&self, new: &NewRun<'_>) -> StoreResult<RunId> {
@@ -122,15 +122,16 @@ impl Store {
             return Err(StoreError::NotFound);
         }
         let id = sqlx::query_scalar(
-            "INSERT INTO runs (build_id, revision_id, started_at, operator_id, supply_setting_v,
-                supply_current_limit_a, load, water_mass_kg, vessel_heat_capacity_j_per_k, notes,
-                channels_json)
-             VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) RETURNING id",
+            "INSERT INTO runs (build_id, revision_id, started_at, operator, created_by,
+                supply_setting_v, supply_current_limit_a, load, water_mass_kg,
+                vessel_heat_capacity_j_per_k, notes, channels_json)
+             VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) RETURNING id",
         )
         .bind(new.build_id)
         .bind(new.revision_id)
         .bind(new.started_at.unwrap_or_else(now_unix_s))
-        .bind(new.operator_id)
+        .bind(new.operator)
+        .bind(new.created_by)
         .bind(new.supply_setting_v)
         .bind(new.supply_current_limit_a)
         .bind(new.load)

@@ -337,7 +337,8 @@ async fn create(
         .create_run(&NewRun {
             build_id: build.id,
             revision_id: revision.id,
-            operator_id: Some(user.user_id),
+            operator: &user.display_name,
+            created_by: Some(user.user_id),
             started_at: None,
             supply_setting_v: supply,
             supply_current_limit_a: limit,
