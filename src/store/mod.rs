@@ -148,3 +148,25 @@ impl Store {
             .await?)
     }
 }
+
+/// The connection settings in force, as SQLite reports them.
+#[derive(Debug, sqlx::FromRow)]
+pub struct Pragmas {
+    pub journal_mode: String,
+    pub synchronous: i64,
+    pub foreign_keys: i64,
+    pub busy_timeout_ms: i64,
+}
+
+impl Store {
+    pub async fn pragmas(&self) -> StoreResult<Pragmas> {
+        Ok(sqlx::query_as(
+            "SELECT (SELECT journal_mode FROM pragma_journal_mode) AS journal_mode,
+                    (SELECT synchronous FROM pragma_synchronous) AS synchronous,
+                    (SELECT foreign_keys FROM pragma_foreign_keys) AS foreign_keys,
+                    (SELECT timeout FROM pragma_busy_timeout) AS busy_timeout_ms",
+        )
+        .fetch_one(&self.pool)
+        .await?)
+    }
+}

@@ -35,10 +35,6 @@ impl Chrome {
             .as_ref()
             .is_some_and(|u| u.role >= UserRole::Editor)
     }
-
-    pub fn display_name(&self) -> &str {
-        self.user.as_ref().map_or("", |u| u.display_name.as_str())
-    }
 }
 
 #[derive(Template)]

@@ -65,8 +65,6 @@ impl From<StoreError> for AppError {
 /// What the client is told: never an internal cause.
 #[derive(Debug, Clone, Serialize)]
 pub struct ErrorBody {
-    #[serde(skip)]
-    pub status: u16,
     pub error: String,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub field: Option<String>,
@@ -79,7 +77,6 @@ impl IntoResponse for AppError {
             tracing::error!(error = ?cause, "request failed");
         }
         let body = ErrorBody {
-            status: status.as_u16(),
             error: match &self {
                 AppError::Invalid { message, .. } => message.clone(),
                 other => other.to_string(),
@@ -106,7 +103,6 @@ pub async fn render(request: Request, next: Next) -> Response {
         Some(body) => body,
         // Rejections of extractors (a malformed form, a wrong content type) come as plain text.
         None if is_bare_error(&response) => ErrorBody {
-            status: status.as_u16(),
             error: default_message(status),
             field: None,
         },

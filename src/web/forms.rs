@@ -382,7 +382,7 @@ pub fn parts_from_form(form: &BTreeMap<String, String>) -> Result<Parts, FieldEr
                 continue;
             }
             if spec.integer {
-                if number.fract() != 0.0 || number < 1.0 || number > 10_000.0 {
+                if number.fract() != 0.0 || !(1.0..=10_000.0).contains(&number) {
                     errors.add(&name, "must be a whole number from 1 to 10000");
                     continue;
                 }
@@ -394,10 +394,10 @@ pub fn parts_from_form(form: &BTreeMap<String, String>) -> Result<Parts, FieldEr
                 );
             }
         }
-        if role == WorkCoil {
-            if let Some(conductor) = conductor_from_form(form, &mut errors) {
-                params.insert("conductor".into(), conductor);
-            }
+        if role == WorkCoil
+            && let Some(conductor) = conductor_from_form(form, &mut errors)
+        {
+            params.insert("conductor".into(), conductor);
         }
         object.insert(role.key().into(), Value::Object(params));
     }

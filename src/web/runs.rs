@@ -289,10 +289,10 @@ async fn create(
         ("water_mass_kg", water, 1_000.0),
         ("vessel_heat_capacity_j_per_k", vessel, 1e7),
     ] {
-        if let Some(v) = value {
-            if v <= 0.0 || v > max {
-                errors.add(name, format!("must be above 0 and at most {max}"));
-            }
+        if let Some(v) = value
+            && (v <= 0.0 || v > max)
+        {
+            errors.add(name, format!("must be above 0 and at most {max}"));
         }
     }
     if !LOADS.contains(&form.load.as_str()) {

@@ -27,10 +27,6 @@ pub struct CurrentUser(pub SessionUser);
 #[derive(Clone, Debug)]
 pub struct Editor(pub SessionUser);
 
-/// A signed-in administrator.
-#[derive(Clone, Debug)]
-pub struct Admin(pub SessionUser);
-
 /// Resolves the session cookie before any handler runs.
 pub async fn load(State(state): State<AppState>, mut request: Request, next: Next) -> Response {
     let user = match cookie(request.headers(), SESSION_COOKIE) {
@@ -77,18 +73,6 @@ impl<S: Send + Sync> FromRequestParts<S> for Editor {
         let CurrentUser(user) = CurrentUser::from_request_parts(parts, state).await?;
         if user.role >= UserRole::Editor {
             Ok(Editor(user))
-        } else {
-            Err(AppError::Forbidden)
-        }
-    }
-}
-
-impl<S: Send + Sync> FromRequestParts<S> for Admin {
-    type Rejection = AppError;
-    async fn from_request_parts(parts: &mut Parts, state: &S) -> Result<Self, AppError> {
-        let CurrentUser(user) = CurrentUser::from_request_parts(parts, state).await?;
-        if user.role >= UserRole::Admin {
-            Ok(Admin(user))
         } else {
             Err(AppError::Forbidden)
         }

@@ -46,7 +46,6 @@ pub struct RunLine {
     pub load: &'static str,
     pub supply: String,
     pub outcome: String,
-    pub open: bool,
     pub failed: bool,
     pub reading_count: i64,
 }
@@ -64,7 +63,6 @@ impl RunLine {
                 Some(o) => o.title().to_string(),
                 None => "In progress".to_string(),
             },
-            open: run.is_open(),
             failed: outcome == Some(Outcome::PartFailed),
             reading_count: run.reading_count,
         }

@@ -46,7 +46,13 @@ impl Page {
         let selector = scraper::Selector::parse(selector).expect("valid selector");
         self.html()
             .select(&selector)
-            .map(|e| e.text().collect::<String>().split_whitespace().collect::<Vec<_>>().join(" "))
+            .map(|e| {
+                e.text()
+                    .collect::<String>()
+                    .split_whitespace()
+                    .collect::<Vec<_>>()
+                    .join(" ")
+            })
             .collect()
     }
 
@@ -96,7 +102,10 @@ impl TestApp {
     pub async fn add_user(&self, name: &str, role: UserRole) {
         // A cheap hash would hide nothing here, but the real one keeps the test honest.
         let hash = hash_password(PASSWORD);
-        self.store.create_user(name, name, role, &hash).await.unwrap();
+        self.store
+            .create_user(name, name, role, &hash)
+            .await
+            .unwrap();
     }
 
     /// A user of the role, signed in through the real login form.
@@ -105,25 +114,51 @@ impl TestApp {
         self.login(name, PASSWORD).await.expect("login succeeds")
     }
 
-    pub async fn login(&self, name: &str, password: &str) -> Option<Session> {
-        let page = self.send(Request::get("/login").header(header::HOST, HOST).body(Body::empty()).unwrap()).await;
-        let csrf = page.attr("input[name=csrf]", "value").expect("login form has a token");
-        let pre_cookie = cookie_value(&page, "eb_csrf").expect("login page sets its token cookie");
-        let body = form_body(&[("csrf", &csrf), ("name", name), ("password", password), ("next", "/")]);
-        let response = self
+    /// Posts the login form as a browser would (token cookie, Origin) and returns the answer.
+    pub async fn login_attempt(&self, name: &str, password: &str, next: &str) -> Page {
+        let page = self
             .send(
-                Request::post("/login")
+                Request::get("/login")
                     .header(header::HOST, HOST)
-                    .header(header::ORIGIN, ORIGIN)
-                    .header(header::COOKIE, format!("eb_csrf={pre_cookie}"))
-                    .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded")
-                    .body(Body::from(body))
+                    .body(Body::empty())
                     .unwrap(),
             )
             .await;
+        let csrf = page
+            .attr("input[name=csrf]", "value")
+            .expect("login form has a token");
+        let pre_cookie = cookie_value(&page, "eb_csrf").expect("login page sets its token cookie");
+        let body = form_body(&[
+            ("csrf", &csrf),
+            ("name", name),
+            ("password", password),
+            ("next", next),
+        ]);
+        self.send(
+            Request::post("/login")
+                .header(header::HOST, HOST)
+                .header(header::ORIGIN, ORIGIN)
+                .header(header::COOKIE, format!("eb_csrf={pre_cookie}"))
+                .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded")
+                .body(Body::from(body))
+                .unwrap(),
+        )
+        .await
+    }
+
+    pub async fn login(&self, name: &str, password: &str) -> Option<Session> {
+        let response = self.login_attempt(name, password, "/").await;
         let session = cookie_value(&response, "eb_session").filter(|v| !v.is_empty())?;
         let cookie = format!("eb_session={session}");
-        let home = self.get("/builds/new", Some(&Session { cookie: cookie.clone(), csrf: String::new() })).await;
+        let home = self
+            .get(
+                "/builds/new",
+                Some(&Session {
+                    cookie: cookie.clone(),
+                    csrf: String::new(),
+                }),
+            )
+            .await;
         let csrf = home
             .attr("input[name=csrf]", "value")
             .or_else(|| {
@@ -132,8 +167,17 @@ impl TestApp {
             })
             .unwrap_or_default();
         let csrf = if csrf.is_empty() {
-            let page = self.get("/", Some(&Session { cookie: cookie.clone(), csrf: String::new() })).await;
-            page.attr("form[action='/logout'] input[name=csrf]", "value").unwrap_or_default()
+            let page = self
+                .get(
+                    "/",
+                    Some(&Session {
+                        cookie: cookie.clone(),
+                        csrf: String::new(),
+                    }),
+                )
+                .await;
+            page.attr("form[action='/logout'] input[name=csrf]", "value")
+                .unwrap_or_default()
         } else {
             csrf
         };
@@ -164,10 +208,17 @@ impl TestApp {
     pub async fn post_form(&self, path: &str, session: &Session, fields: &[(&str, &str)]) -> Page {
         let mut all = vec![("csrf", session.csrf.as_str())];
         all.extend_from_slice(fields);
-        self.post_raw(path, Some(session), Some(ORIGIN), &form_body(&all)).await
+        self.post_raw(path, Some(session), Some(ORIGIN), &form_body(&all))
+            .await
     }
 
-    pub async fn post_raw(&self, path: &str, session: Option<&Session>, origin: Option<&str>, body: &str) -> Page {
+    pub async fn post_raw(
+        &self,
+        path: &str,
+        session: Option<&Session>,
+        origin: Option<&str>,
+        body: &str,
+    ) -> Page {
         let mut request = Request::post(path)
             .header(header::HOST, HOST)
             .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded");
@@ -177,7 +228,8 @@ impl TestApp {
         if let Some(origin) = origin {
             request = request.header(header::ORIGIN, origin);
         }
-        self.send(request.body(Body::from(body.to_string())).unwrap()).await
+        self.send(request.body(Body::from(body.to_string())).unwrap())
+            .await
     }
 
     pub async fn post_json(&self, path: &str, bearer: Option<&str>, body: &str) -> Page {
@@ -187,7 +239,8 @@ impl TestApp {
         if let Some(token) = bearer {
             request = request.header(header::AUTHORIZATION, format!("Bearer {token}"));
         }
-        self.send(request.body(Body::from(body.to_string())).unwrap()).await
+        self.send(request.body(Body::from(body.to_string())).unwrap())
+            .await
     }
 
     pub async fn count_rows(&self, table: &str) -> i64 {
@@ -207,5 +260,7 @@ pub fn cookie_value(page: &Page, name: &str) -> Option<String> {
 }
 
 pub fn form_body(fields: &[(&str, &str)]) -> String {
-    form_urlencoded::Serializer::new(String::new()).extend_pairs(fields).finish()
+    form_urlencoded::Serializer::new(String::new())
+        .extend_pairs(fields)
+        .finish()
 }
