@@ -1,5 +1,8 @@
 //! Shared fixtures: a fresh database per test, the real router, signed-in clients.
-#![allow(dead_code)]
+#![allow(dead_code, unused_imports)]
+
+pub mod fixtures;
+pub use fixtures::*;
 
 use std::sync::Arc;
 
