@@ -4,6 +4,8 @@
 pub mod analysis;
 /// Reading channels and their names.
 pub mod channel;
+/// Server-side SVG charts.
+pub mod charts;
 /// Start-up configuration.
 pub mod config;
 /// The demo scenario.

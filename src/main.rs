@@ -66,6 +66,15 @@ enum Command {
         #[command(flatten)]
         data: DataDir,
     },
+    /// Evaluate the driver model for a JSON file of `{"parts": ..., "operating_point": ...}`
+    /// (`-` reads standard input) and print the same JSON answer as POST /api/v1/model
+    Model {
+        /// The request file, or `-` for standard input
+        file: PathBuf,
+        /// Print an aligned table with units instead of JSON
+        #[arg(long)]
+        table: bool,
+    },
     /// Manage accounts
     User {
         #[command(subcommand)]
@@ -149,6 +158,7 @@ async fn main() -> anyhow::Result<()> {
             );
             run_server(store, config_for(&serve, path), serve.listen, Some(banner)).await
         }
+        Command::Model { file, table } => model_command(&file, table),
         Command::User { command, data } => {
             let store = Store::open(&data.path()).await?;
             user_command(&store, command).await
@@ -244,4 +254,60 @@ async fn user_command(store: &Store, command: UserCommand) -> anyhow::Result<()>
             Ok(())
         }
     }
+}
+
+fn model_command(file: &std::path::Path, table: bool) -> anyhow::Result<()> {
+    use eddybench::analysis::model_table::{MODEL_CAVEATS, quantity_rows};
+    use eddybench::web::model_api::{ModelRequest, evaluate_request};
+    let text = if file.as_os_str() == "-" {
+        let mut text = String::new();
+        std::io::stdin().read_to_string(&mut text)?;
+        text
+    } else {
+        std::fs::read_to_string(file).with_context(|| format!("cannot read {}", file.display()))?
+    };
+    let request: ModelRequest =
+        serde_json::from_str(&text).context("the request is not valid JSON for the model")?;
+    let report = match evaluate_request(&request) {
+        Ok(report) => report,
+        Err(eddybench::web::AppError::Invalid { field, message }) => bail!("{field}: {message}"),
+        Err(other) => bail!("{other}"),
+    };
+    if !table {
+        let mut answer = serde_json::to_value(&report)?;
+        answer["caveats"] = serde_json::json!(MODEL_CAVEATS);
+        println!("{}", serde_json::to_string_pretty(&answer)?);
+        return Ok(());
+    }
+    let rows = quantity_rows(&report);
+    let width = rows
+        .iter()
+        .map(|r| r.title.chars().count())
+        .max()
+        .unwrap_or(0);
+    for row in &rows {
+        let pad = width - row.title.chars().count();
+        println!("{}{}  {}", row.title, " ".repeat(pad), row.display());
+    }
+    if report.switch_thermal_runaway {
+        println!("\nSwitch thermal runaway: no steady junction temperature below its limit.");
+    }
+    println!();
+    if report.flags.is_empty() {
+        println!("No flags.");
+    }
+    for flag in &report.flags {
+        let severity = serde_json::to_value(flag.severity)?;
+        println!(
+            "{:<8} {:<20} {}",
+            severity.as_str().unwrap_or(""),
+            flag.code,
+            flag.message
+        );
+    }
+    println!();
+    for caveat in MODEL_CAVEATS {
+        println!("Note: {caveat}");
+    }
+    Ok(())
 }

@@ -32,6 +32,8 @@ pub enum Unit {
     Second,
     Celsius,
     KelvinPerWatt,
+    /// Reactive power, volt-amperes reactive.
+    Var,
     /// A bare number (counts, dissipation factors, percentages).
     None,
 }
@@ -50,6 +52,7 @@ impl Unit {
             Unit::Second => "s",
             Unit::Celsius => "°C",
             Unit::KelvinPerWatt => "K/W",
+            Unit::Var => "var",
             Unit::None => "",
         }
     }
@@ -67,6 +70,7 @@ impl Unit {
             Unit::Second => &["s", "sec"],
             Unit::Celsius => &["°c", "c", "degc"],
             Unit::KelvinPerWatt => &["k/w", "°c/w", "c/w"],
+            Unit::Var => &["var"],
             Unit::None => &[],
         }
     }
@@ -142,6 +146,7 @@ fn expected_text(unit: Unit) -> &'static str {
         Unit::Second => "s, such as 150 s",
         Unit::Celsius => "°C, such as 85",
         Unit::KelvinPerWatt => "K/W, such as 0.8",
+        Unit::Var => "var, such as 2.8 kvar",
         Unit::None => "a plain number",
     }
 }

@@ -13,6 +13,8 @@ pub mod limits;
 pub mod live;
 /// The operating point, the report, and `validate` / `evaluate`.
 pub mod model;
+/// The model's quantities as titled rows with units.
+pub mod model_table;
 /// The steady part of a run and its operating point.
 pub mod operating_point;
 /// The temperature limit of each part for a run's margins.

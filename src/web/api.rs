@@ -11,7 +11,6 @@ pub fn router() -> Router<AppState> {
     Router::new()
 }
 
-#[allow(dead_code)] // the model and logging endpoints take it
 /// `Json` whose rejections are our 422 JSON error, naming the field where serde can.
 pub struct ApiJson<T>(pub T);
 
@@ -38,7 +37,6 @@ where
     }
 }
 
-#[allow(dead_code)]
 /// serde_path_to_error's text reads "path.to.field: message"; split it into field and message.
 fn json_error(text: &str) -> AppError {
     let detail = text

@@ -7,6 +7,8 @@ mod chrome;
 mod csrf;
 mod error;
 mod forms;
+pub mod model_api;
+mod model_panel;
 mod revisions;
 mod runs;
 mod security;
@@ -49,6 +51,7 @@ pub fn app(state: AppState) -> Router {
         .merge(revisions::router())
         .merge(runs::router())
         .merge(api::router())
+        .merge(model_api::router())
         .route("/healthz", get(healthz))
         .nest_service("/static", ServeDir::new(static_dir))
         .layer(middleware::from_fn_with_state(state.clone(), csrf::guard))

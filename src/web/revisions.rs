@@ -15,6 +15,7 @@ use super::forms::{
     CONDUCTOR_FIELDS, EDITOR_ROLES, FieldErrors, PART_FIELDS, PartField, field_name,
     parts_from_form, parts_to_form,
 };
+use super::model_panel::{ModelPanel, WhatIfQuery};
 use super::session::{CurrentUser, Editor};
 use super::view::date_time;
 use super::{AppError, AppState, Result};
@@ -121,12 +122,14 @@ struct ShowPage {
     created: String,
     notes: String,
     parts: Vec<PartView>,
+    model: ModelPanel,
 }
 
 async fn show(
     State(state): State<AppState>,
     CurrentUser(user): CurrentUser,
     Path((slug, label)): Path<(String, String)>,
+    Query(what_if): Query<WhatIfQuery>,
 ) -> Result<ShowPage> {
     let build = state.store.build_by_slug(&slug).await?;
     let revision = find_revision(&state, &build, &label).await?;
@@ -140,6 +143,7 @@ async fn show(
         created: date_time(revision.created_at),
         notes: revision.notes.clone(),
         parts: part_views(&revision.parts),
+        model: ModelPanel::build(&revision.parts, what_if),
         build,
     })
 }

@@ -1,6 +1,7 @@
 //! Shared fixtures: a fresh database per test, the real router, signed-in clients.
 #![allow(dead_code, unused_imports)]
 
+pub mod chart_fixtures;
 pub mod fixtures;
 pub use fixtures::*;
 
