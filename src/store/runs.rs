@@ -177,6 +177,23 @@ impl Store {
         .await?)
     }
 
+    /// Finished idle runs (no load) of a revision other than `except`, newest first: the
+    /// references of the differential efficiency.
+    pub async fn idle_runs_of_revision(
+        &self,
+        revision_id: RevisionId,
+        except: RunId,
+    ) -> StoreResult<Vec<Run>> {
+        Ok(sqlx::query_as(AssertSqlSafe(format!(
+            "{RUN_SELECT} WHERE u.revision_id = ? AND u.id <> ? AND u.load = 'none'
+             AND u.finished_at IS NOT NULL ORDER BY u.started_at DESC LIMIT 20"
+        )))
+        .bind(revision_id)
+        .bind(except)
+        .fetch_all(&self.pool)
+        .await?)
+    }
+
     /// Records how an open run ended; a finished run cannot be finished again.
     pub async fn finish_run(&self, id: RunId, finish: &RunFinish<'_>) -> StoreResult<()> {
         let done = sqlx::query(

@@ -10,6 +10,8 @@ mod forms;
 pub mod model_api;
 mod model_panel;
 mod revisions;
+mod run_analysis;
+mod run_view;
 mod runs;
 mod security;
 mod session;
@@ -50,6 +52,7 @@ pub fn app(state: AppState) -> Router {
         .merge(builds::router())
         .merge(revisions::router())
         .merge(runs::router())
+        .merge(run_analysis::router())
         .merge(api::router())
         .merge(model_api::router())
         .route("/healthz", get(healthz))

@@ -12,6 +12,8 @@ use serde::Deserialize;
 use super::chrome::Chrome;
 use super::forms::{FieldErrors, optional_value};
 use super::revisions::find_revision;
+use super::run_analysis::{analyse_stored_run, analysis_readings};
+use super::run_view::AnalysisView;
 use super::session::{CurrentUser, Editor};
 use super::view::{date_time, load_title, maybe, minutes_seconds};
 use super::{AppError, AppState, Result};
@@ -34,6 +36,9 @@ pub fn router() -> Router<AppState> {
         )
         .route("/builds/{slug}/runs/{id}/finish", post(finish))
 }
+
+/// Readings shown at once on an open run's page, newest first; the rest fold away.
+const RECENT_READINGS: usize = 20;
 
 pub const LOADS: [&str; 4] = ["none", "ferrous", "non_ferrous", "water"];
 
@@ -371,6 +376,7 @@ struct ShowPage {
     failed_part_title: String,
     error: String,
     error_channel: String,
+    analysis: AnalysisView,
 }
 
 /// One big field and an "add" button per channel in use.
@@ -425,6 +431,18 @@ async fn show(
     let (build, run) = build_and_run(&state, &slug, id).await?;
     let revision = state.store.revision_by_id(run.revision_id).await?;
     let history = state.store.reading_history(run.id).await?;
+    let analysis_readings = analysis_readings(&state.store, run.id).await?;
+    let analysed = analyse_stored_run(&state.store, &run, &revision, &analysis_readings).await?;
+    let open_at_s = run
+        .is_open()
+        .then(|| (now_unix_s() - run.started_at) as f64);
+    let analysis = AnalysisView::build(
+        run.id.0,
+        &revision.parts,
+        &analysed,
+        &analysis_readings,
+        open_at_s,
+    );
     let titles = |name: &str| {
         name.parse::<Channel>()
             .map(Channel::title)
@@ -511,6 +529,7 @@ async fn show(
         failed_part_title,
         error: query.error.chars().take(200).collect(),
         error_channel: query.channel,
+        analysis,
         build,
         run,
     })
