@@ -25,6 +25,8 @@ pub mod reading;
 pub mod run;
 /// Rules that raise a run's flags.
 pub mod run_flags;
+/// What build pages keep of each run.
+pub mod run_summary;
 /// Medians, least-squares lines and per-channel samples.
 pub mod series;
 /// First-order thermal fit and time to a limit.

@@ -98,11 +98,17 @@ pub fn rise_per_watt_k_per_w(rise_k: f64, loss_w: f64) -> Option<f64> {
     (loss_w > 0.0 && rise_k.is_finite()).then(|| rise_k / loss_w)
 }
 
-/// The model's loss in one part of `role`. Only the switch's conduction loss is known to this
-/// file; the model's other per-part losses map here once its report names them.
-pub fn part_loss_w(model: &ModelReport, role: Role) -> Option<f64> {
+/// The model's loss in ONE part of `role` (one capacitor of the bank, one choke, one switch):
+/// the heat behind that part's temperature rise. Equal units share the bank's and the chokes'
+/// losses equally (current divides in proportion to capacitance, REFERENCE §3).
+pub fn part_loss_w(model: &ModelReport, parts: &crate::parts::Parts, role: Role) -> Option<f64> {
+    let per_unit = |total: Option<f64>, count: u32| total.map(|w| w / f64::from(count.max(1)));
     match role {
         Role::Switch => model.switch_conduction_loss_w,
+        Role::TankCapacitor => per_unit(model.capacitor_loss_w, parts.quantity(role)),
+        Role::Choke => per_unit(model.choke_dc_loss_w, parts.quantity(role)),
+        Role::WorkCoil => model.coil_copper_loss_w,
+        Role::GateResistor => model.gate_resistor_power_w,
         _ => None,
     }
 }
@@ -113,6 +119,7 @@ pub fn summarise_run(
     run_id: i64,
     revision_label: &str,
     started_at_unix_s: i64,
+    parts: &crate::parts::Parts,
     readings: &[Reading],
     analysis: &RunAnalysis,
 ) -> RunSummary {
@@ -140,7 +147,10 @@ pub fn summarise_run(
                 t_max_c: t.t_max_c,
                 limit_c: t.limit_c,
                 margin_k: t.margin_k,
-                loss_w: analysis.model.as_ref().and_then(|m| part_loss_w(m, t.part)),
+                loss_w: analysis
+                    .model
+                    .as_ref()
+                    .and_then(|m| part_loss_w(m, parts, t.part)),
                 rise_k: ambient_c.map(|a| t.t_max_c - a),
                 hot_time_s: hot,
             }

@@ -203,7 +203,14 @@ fn summary_of_an_analysed_run() {
         vessel_heat_capacity_j_per_k: None,
         idle_reference: None,
     };
-    let summary = summarise_run(7, "r1", 1_700_000_000, &readings, &analyse_run(&input));
+    let summary = summarise_run(
+        7,
+        "r1",
+        1_700_000_000,
+        &parts,
+        &readings,
+        &analyse_run(&input),
+    );
     assert_eq!(summary.duration_s, 40.0);
     let p = &summary.parts[0];
     assert_eq!((p.channel.as_str(), p.t_max_c), (CAP1, 80.0));

@@ -1,10 +1,10 @@
-//! Where things go in the 640 × 360 viewBox.
+//! Where things go in the 480 × 340 viewBox.
 //!
-//! Text is 14 units (16 for the title): scaled onto a 390 px phone that is about 8.5 px, the
-//! smallest that still reads, and in print it is about 10 pt across a page.
+//! Text is 14 units (16 for the title): scaled onto a 390 px phone (about 360 px of content)
+//! that is about 10.5 px, and in print about 10 pt across a page.
 
-pub(crate) const VIEW_WIDTH: f64 = 640.0;
-pub(crate) const VIEW_HEIGHT: f64 = 360.0;
+pub(crate) const VIEW_WIDTH: f64 = 480.0;
+pub(crate) const VIEW_HEIGHT: f64 = 340.0;
 pub(crate) const FONT_SIZE: f64 = 14.0;
 pub(crate) const TITLE_FONT_SIZE: f64 = 16.0;
 /// Rough advance of one character of a sans-serif face at [`FONT_SIZE`] (about 0.6 em). Text is

@@ -1,6 +1,7 @@
 //! The only module that speaks SQL: one file per aggregate, all on one `Store`.
 
 mod builds;
+mod digests;
 mod readings;
 mod revisions;
 mod runs;
@@ -129,7 +130,7 @@ impl Store {
     /// Rows in a table, for tests that check that nothing was saved. Only the logbook's own
     /// table names are accepted.
     pub async fn count_rows(&self, table: &str) -> StoreResult<i64> {
-        const TABLES: [&str; 8] = [
+        const TABLES: [&str; 9] = [
             "users",
             "sessions",
             "builds",
@@ -138,6 +139,7 @@ impl Store {
             "runs",
             "readings",
             "login_failures",
+            "run_digests",
         ];
         if !TABLES.contains(&table) {
             return Err(StoreError::NotFound);

@@ -80,6 +80,11 @@ impl Store {
         .bind(now_unix_s())
         .fetch_one(&mut *tx)
         .await?;
+        super::digests::forget_digest(&mut tx, run_id).await?;
+        sqlx::query("UPDATE runs SET reading_count = reading_count + 1 WHERE id = ?")
+            .bind(run_id)
+            .execute(&mut *tx)
+            .await?;
         tx.commit().await?;
         Ok(id)
     }
@@ -119,6 +124,12 @@ pub(super) async fn insert_readings(
     readings: &[NewReading],
     entered_by: Option<UserId>,
 ) -> StoreResult<()> {
+    super::digests::forget_digest(tx, run_id).await?;
+    sqlx::query("UPDATE runs SET reading_count = reading_count + ? WHERE id = ?")
+        .bind(readings.len() as i64)
+        .bind(run_id)
+        .execute(&mut **tx)
+        .await?;
     let now = now_unix_s();
     for chunk in readings.chunks(ROWS_PER_STATEMENT) {
         let mut builder = sqlx::QueryBuilder::<sqlx::Sqlite>::new(

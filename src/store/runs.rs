@@ -104,8 +104,7 @@ pub struct RunFinish<'a> {
 const RUN_SELECT: &str = "SELECT u.id, u.build_id, u.revision_id, r.number AS revision_number,
         u.started_at, u.operator, u.supply_setting_v, u.supply_current_limit_a,
         u.load, u.water_mass_kg, u.vessel_heat_capacity_j_per_k, u.notes, u.channels_json,
-        u.finished_at, u.outcome, u.failed_part, u.outcome_note,
-        (SELECT COUNT(*) FROM readings g WHERE g.run_id = u.id) AS reading_count
+        u.finished_at, u.outcome, u.failed_part, u.outcome_note, u.reading_count
      FROM runs u JOIN revisions r ON r.id = u.revision_id";
 
 impl Store {
@@ -196,6 +195,8 @@ impl Store {
 
     /// Records how an open run ended; a finished run cannot be finished again.
     pub async fn finish_run(&self, id: RunId, finish: &RunFinish<'_>) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
+        super::digests::forget_digest(&mut tx, id).await?;
         let done = sqlx::query(
             "UPDATE runs SET finished_at = ?, outcome = ?, failed_part = ?, outcome_note = ?
              WHERE id = ? AND finished_at IS NULL",
@@ -205,11 +206,12 @@ impl Store {
         .bind(finish.failed_part)
         .bind(finish.note)
         .bind(id)
-        .execute(&self.pool)
+        .execute(&mut *tx)
         .await?;
         if done.rows_affected() == 0 {
             return Err(StoreError::Conflict("this run is already finished".into()));
         }
+        tx.commit().await?;
         Ok(())
     }
 }

@@ -8,12 +8,16 @@ use axum::routing::get;
 use axum::{Form, Router};
 use serde::Deserialize;
 
+use super::build_view::{BuildHealth, build_charts, build_health};
 use super::chrome::Chrome;
+use super::digests::digests_of;
 use super::forms::FieldErrors;
+use super::run_view::ChartView;
 use super::session::{CurrentUser, Editor};
 use super::view::{RunLine, date_time};
 use super::{AppState, Result};
-use crate::store::{Build, BuildSummary, NewBuild, Revision};
+use crate::analysis::run_summary::RunDigest;
+use crate::store::{Build, BuildSummary, NewBuild, Revision, Run};
 
 pub fn router() -> Router<AppState> {
     Router::new()
@@ -131,6 +135,9 @@ struct ShowPage {
     build: Build,
     revisions: Vec<RevisionLine>,
     runs: Vec<RunLine>,
+    health: Option<BuildHealth>,
+    charts: Vec<ChartView>,
+    revision_labels: Vec<String>,
 }
 
 struct RevisionLine {
@@ -169,8 +176,23 @@ async fn show(
 ) -> Result<ShowPage> {
     let build = state.store.build_by_slug(&slug).await?;
     let revisions = state.store.revisions_of_build(build.id).await?;
-    let runs = state.store.runs_of_build(build.id, 50).await?;
+    let mut all_runs = state.store.runs_of_build(build.id, i64::MAX).await?;
+    all_runs.reverse();
+    let digests = digests_of(&state.store, &build, &all_runs, &revisions).await?;
+    let latest = revisions.last().map(Revision::label);
+    let health = latest.as_ref().map(|label| {
+        let current: Vec<&RunDigest> = digests
+            .iter()
+            .filter(|d| &d.trend.revision_label == label)
+            .collect();
+        build_health(label, &current)
+    });
+    let charts = build_charts(&build.slug, &digests);
+    let runs: Vec<&Run> = all_runs.iter().rev().take(50).collect();
     Ok(ShowPage {
+        health,
+        charts,
+        revision_labels: revisions.iter().rev().map(Revision::label).collect(),
         chrome: Chrome::new(build.name.clone(), &user),
         revisions: revisions
             .iter()
@@ -183,7 +205,7 @@ async fn show(
                 summary: parts_summary(r),
             })
             .collect(),
-        runs: runs.iter().map(RunLine::from_run).collect(),
+        runs: runs.into_iter().map(RunLine::from_run).collect(),
         build,
     })
 }

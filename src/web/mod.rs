@@ -2,9 +2,11 @@
 
 mod api;
 mod auth;
+mod build_view;
 mod builds;
 mod chrome;
 mod csrf;
+mod digests;
 mod error;
 mod forms;
 pub mod model_api;
