@@ -16,7 +16,7 @@ use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions, S
 use sqlx::{Sqlite, SqlitePool, Transaction};
 
 pub use builds::{Build, BuildSummary, NewBuild};
-pub use readings::{NewReading, ReadingRow};
+pub use readings::{NewReading, ReadingRow, ReadingsImport};
 pub use revisions::{Revision, revision_number};
 pub use runs::{NewRun, Outcome, Run, RunFinish};
 pub use sessions::SessionUser;

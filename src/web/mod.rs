@@ -1,12 +1,14 @@
 //! Pages, the JSON API and their middleware. Each area has its own `router()`; `app` merges them.
 
 mod api;
+mod api_logbook;
 mod auth;
 mod builds;
 mod chrome;
 mod csrf;
 mod error;
 mod forms;
+mod readings_import;
 mod revisions;
 mod runs;
 mod security;
@@ -49,6 +51,7 @@ pub fn app(state: AppState) -> Router {
         .merge(revisions::router())
         .merge(runs::router())
         .merge(api::router())
+        .merge(api_logbook::router())
         .route("/healthz", get(healthz))
         .nest_service("/static", ServeDir::new(static_dir))
         .layer(middleware::from_fn_with_state(state.clone(), csrf::guard))
