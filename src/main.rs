@@ -10,7 +10,7 @@ use clap::{Parser, Subcommand, ValueEnum};
 
 use eddybench::config::{Config, DEFAULT_DATA_DIR};
 use eddybench::secrets::{generate_password, hash_password};
-use eddybench::store::{Store, UserRole};
+use eddybench::store::{Store, StoreError, TokenId, UserRole};
 use eddybench::{AppState, app};
 
 /// Eddybench: a build logbook and test-results tracker for self-oscillating induction heaters.
@@ -82,6 +82,13 @@ enum Command {
         #[command(flatten)]
         data: DataDir,
     },
+    /// Manage API tokens for scripts (a token acts with its user's role)
+    Token {
+        #[command(subcommand)]
+        command: TokenCommand,
+        #[command(flatten)]
+        data: DataDir,
+    },
 }
 
 #[derive(Clone, Copy, ValueEnum)]
@@ -119,6 +126,22 @@ enum UserCommand {
         display_name: Option<String>,
     },
     /// List accounts
+    List,
+}
+
+#[derive(Subcommand)]
+enum TokenCommand {
+    /// Make a token for a user; prints it once (only its hash is stored)
+    Add {
+        /// Sign-in name of the user the token acts for
+        user: String,
+        /// What the token is for, to tell tokens apart in `token list`
+        #[arg(long, default_value = "")]
+        label: String,
+    },
+    /// Stop a token working, by the id `token add` and `token list` print
+    Revoke { id: i64 },
+    /// List tokens: id, user, label, created, last used, revoked
     List,
 }
 
@@ -162,6 +185,10 @@ async fn main() -> anyhow::Result<()> {
         Command::User { command, data } => {
             let store = Store::open(&data.path()).await?;
             user_command(&store, command).await
+        }
+        Command::Token { command, data } => {
+            let store = Store::open(&data.path()).await?;
+            token_command(&store, command).await
         }
     }
 }
@@ -310,4 +337,66 @@ fn model_command(file: &std::path::Path, table: bool) -> anyhow::Result<()> {
         println!("Note: {caveat}");
     }
     Ok(())
+}
+
+async fn token_command(store: &Store, command: TokenCommand) -> anyhow::Result<()> {
+    match command {
+        TokenCommand::Add { user, label } => {
+            let owner = store
+                .user_by_name(user.trim())
+                .await?
+                .with_context(|| format!("no user named {user}"))?;
+            let label = label.trim();
+            if label.chars().count() > 120 {
+                bail!("keep the label under 120 characters");
+            }
+            let new = store.create_token(owner.id, label).await?;
+            println!(
+                "Token {} for {} ({}).",
+                new.id,
+                owner.name,
+                owner.role.as_str()
+            );
+            // Printed once; only its hash is stored.
+            println!("Token: {}", new.token);
+            println!("Send it as `Authorization: Bearer <token>`.");
+            Ok(())
+        }
+        TokenCommand::Revoke { id } => {
+            match store.revoke_token(TokenId(id)).await {
+                Ok(()) => println!("Revoked token {id}."),
+                Err(StoreError::NotFound) => bail!("no token {id}"),
+                Err(error) => return Err(error.into()),
+            }
+            Ok(())
+        }
+        TokenCommand::List => {
+            let when = |t: Option<i64>| t.map_or_else(|| "-".to_string(), date_time);
+            println!(
+                "{:>4}  {:<16} {:<24} {:<20} {:<20} REVOKED",
+                "ID", "USER", "LABEL", "CREATED", "LAST USED"
+            );
+            for token in store.list_tokens().await? {
+                println!(
+                    "{:>4}  {:<16} {:<24} {:<20} {:<20} {}",
+                    token.id,
+                    token.user_name,
+                    token.label,
+                    date_time(token.created_at),
+                    when(token.last_used_at),
+                    when(token.revoked_at)
+                );
+            }
+            Ok(())
+        }
+    }
+}
+
+/// `2026-12-01 17:40 UTC`, as the pages show times.
+fn date_time(unix_s: i64) -> String {
+    let format = time::macros::format_description!("[year]-[month]-[day] [hour]:[minute] UTC");
+    time::OffsetDateTime::from_unix_timestamp(unix_s)
+        .ok()
+        .and_then(|t| t.format(&format).ok())
+        .unwrap_or_default()
 }

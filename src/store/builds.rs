@@ -99,6 +99,14 @@ impl Store {
         .ok_or(StoreError::NotFound)
     }
 
+    pub async fn build_by_id(&self, id: BuildId) -> StoreResult<Build> {
+        sqlx::query_as("SELECT id, slug, name, purpose, notes, created_at FROM builds WHERE id = ?")
+            .bind(id)
+            .fetch_optional(&self.pool)
+            .await?
+            .ok_or(StoreError::NotFound)
+    }
+
     /// The builds list: each build with its latest revision and its last run, newest work first.
     pub async fn list_builds(&self) -> StoreResult<Vec<BuildSummary>> {
         Ok(sqlx::query_as(

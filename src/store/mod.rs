@@ -6,6 +6,7 @@ mod readings;
 mod revisions;
 mod runs;
 mod sessions;
+mod tokens;
 mod users;
 
 use std::path::Path;
@@ -16,10 +17,11 @@ use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions, S
 use sqlx::{Sqlite, SqlitePool, Transaction};
 
 pub use builds::{Build, BuildSummary, NewBuild};
-pub use readings::{NewReading, ReadingRow};
+pub use readings::{NewReading, ReadingRow, ReadingsImport};
 pub use revisions::{Revision, revision_number};
 pub use runs::{NewRun, Outcome, Run, RunFinish};
 pub use sessions::SessionUser;
+pub use tokens::{ApiToken, NewToken, TokenUser};
 pub use users::{Role as UserRole, User};
 
 /// Errors of the store: a row that is not there, a uniqueness clash, or the database itself.
@@ -68,6 +70,7 @@ id_type!(BuildId);
 id_type!(RevisionId);
 id_type!(RunId);
 id_type!(ReadingId);
+id_type!(TokenId);
 
 /// The logbook database.
 #[derive(Clone, Debug)]

@@ -1,6 +1,7 @@
 //! Readings: the time series of a run. Corrections add rows; nothing is overwritten.
 
 use serde::Serialize;
+use sqlx::{Sqlite, Transaction};
 
 use super::{ReadingId, RunId, Store, StoreError, StoreResult, UserId, now_unix_s};
 
@@ -102,6 +103,29 @@ impl Store {
         .await?)
     }
 
+    /// How many current values a run has (replaced values not counted).
+    pub async fn current_reading_count(&self, run_id: RunId) -> StoreResult<i64> {
+        Ok(sqlx::query_scalar(
+            "SELECT COUNT(*) FROM readings r
+             WHERE r.run_id = ?
+               AND NOT EXISTS (SELECT 1 FROM readings c WHERE c.corrects_id = r.id)",
+        )
+        .bind(run_id)
+        .fetch_one(&self.pool)
+        .await?)
+    }
+
+    /// Starts a bulk import into an open run; see [`ReadingsImport`].
+    pub fn readings_import(&self, run_id: RunId, entered_by: Option<UserId>) -> ReadingsImport {
+        ReadingsImport {
+            store: self.clone(),
+            tx: None,
+            run_id,
+            entered_by,
+            inserted: 0,
+        }
+    }
+
     /// The current values of a run (corrections applied), in time order.
     pub async fn current_readings(&self, run_id: RunId) -> StoreResult<Vec<ReadingRow>> {
         Ok(sqlx::query_as(
@@ -146,4 +170,61 @@ pub(super) async fn insert_readings(
         builder.build().execute(&mut **tx).await?;
     }
     Ok(())
+}
+
+/// A bulk import into one run, written as it is read, in one write transaction: all rows or
+/// none. Dropping it without `commit` rolls everything back.
+///
+/// The transaction (and with it the database's write lock) begins with the first rows pushed,
+/// so the time spent reading and checking a body before its first rows costs other writers
+/// nothing; it then lasts until `commit`.
+pub struct ReadingsImport {
+    store: Store,
+    tx: Option<Transaction<'static, Sqlite>>,
+    run_id: RunId,
+    entered_by: Option<UserId>,
+    inserted: u64,
+}
+
+impl ReadingsImport {
+    /// Writes checked rows inside the import's transaction.
+    pub async fn push(&mut self, readings: &[NewReading]) -> StoreResult<()> {
+        if readings.is_empty() {
+            return Ok(());
+        }
+        let tx = match self.tx.take() {
+            Some(tx) => tx,
+            None => begin_import(&self.store, self.run_id).await?,
+        };
+        let tx = self.tx.insert(tx);
+        insert_readings(tx, self.run_id, readings, self.entered_by).await?;
+        self.inserted += readings.len() as u64;
+        Ok(())
+    }
+
+    /// Makes every pushed row permanent and returns how many there were.
+    pub async fn commit(self) -> StoreResult<u64> {
+        if let Some(tx) = self.tx {
+            tx.commit().await?;
+        }
+        Ok(self.inserted)
+    }
+}
+
+/// The write transaction of an import, once the run is known to be still open (checked under
+/// the write lock, so a run finished meanwhile refuses the rows).
+async fn begin_import(store: &Store, run_id: RunId) -> StoreResult<Transaction<'static, Sqlite>> {
+    let mut tx = store.begin_write().await?;
+    let finished_at: Option<Option<i64>> =
+        sqlx::query_scalar("SELECT finished_at FROM runs WHERE id = ?")
+            .bind(run_id)
+            .fetch_optional(&mut *tx)
+            .await?;
+    match finished_at {
+        None => Err(StoreError::NotFound),
+        Some(Some(_)) => Err(StoreError::Conflict(
+            "this run is finished; readings can no longer be added".into(),
+        )),
+        Some(None) => Ok(tx),
+    }
 }

@@ -1,6 +1,7 @@
 //! Pages, the JSON API and their middleware. Each area has its own `router()`; `app` merges them.
 
 mod api;
+mod api_logbook;
 mod auth;
 mod build_view;
 mod builds;
@@ -11,6 +12,7 @@ mod error;
 mod forms;
 pub mod model_api;
 mod model_panel;
+mod readings_import;
 mod revisions;
 mod run_analysis;
 mod run_view;
@@ -57,6 +59,7 @@ pub fn app(state: AppState) -> Router {
         .merge(run_analysis::router())
         .merge(api::router())
         .merge(model_api::router())
+        .merge(api_logbook::router())
         .route("/healthz", get(healthz))
         .nest_service("/static", ServeDir::new(static_dir))
         .layer(middleware::from_fn_with_state(state.clone(), csrf::guard))

@@ -76,7 +76,7 @@ pub fn channels_of(parts: &Parts) -> Vec<Channel> {
 }
 
 /// What a first run of a revision logs unless the operator says otherwise.
-fn default_channels(parts: &Parts, load: &str) -> Vec<String> {
+pub fn default_channels(parts: &Parts, load: &str) -> Vec<String> {
     let mut names = vec![
         "supply_voltage".to_string(),
         "supply_current".into(),

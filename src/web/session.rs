@@ -1,12 +1,14 @@
-//! Who is asking: the session cookie resolved to a user once per request, and the extractors that
-//! demand a role.
+//! Who is asking: the bearer token or the session cookie resolved to a user once per request,
+//! and the extractors that demand a role. A token acts with its user's role.
 
+use axum::Json;
 use axum::extract::{FromRequestParts, Request, State};
 use axum::http::request::Parts;
-use axum::http::{HeaderMap, header};
+use axum::http::{HeaderMap, StatusCode, header};
 use axum::middleware::Next;
-use axum::response::Response;
+use axum::response::{IntoResponse, Response};
 
+use super::error::ErrorBody;
 use super::{AppError, AppState};
 use crate::secrets::token_hash;
 use crate::store::{SessionUser, UserRole};
@@ -27,8 +29,25 @@ pub struct CurrentUser(pub SessionUser);
 #[derive(Clone, Debug)]
 pub struct Editor(pub SessionUser);
 
-/// Resolves the session cookie before any handler runs.
+/// Resolves the bearer token or the session cookie before any handler runs.
 pub async fn load(State(state): State<AppState>, mut request: Request, next: Next) -> Response {
+    if let Some(hash) = bearer_token(request.headers()).map(token_hash) {
+        let user = match state.store.token_user(&hash).await {
+            Ok(Some(user)) => user,
+            // A script with a bad token must hear so, not carry on as an anonymous visitor.
+            Ok(None) => return invalid_token(),
+            Err(error) => return AppError::Internal(error.into()).into_response(),
+        };
+        request.extensions_mut().insert(Visitor(Some(SessionUser {
+            user_id: user.user_id,
+            name: user.name,
+            display_name: user.display_name,
+            role: user.role,
+            // Bearer requests skip the form-token check (csrf.rs); there is no form to echo it.
+            csrf_token: String::new(),
+        })));
+        return next.run(request).await;
+    }
     let user = match cookie(request.headers(), SESSION_COOKIE) {
         Some(id) => state
             .store
@@ -77,6 +96,29 @@ impl<S: Send + Sync> FromRequestParts<S> for Editor {
             Err(AppError::Forbidden)
         }
     }
+}
+
+/// The token of an `Authorization: Bearer <token>` header (the same test as csrf.rs makes).
+fn bearer_token(headers: &HeaderMap) -> Option<&str> {
+    headers
+        .get(header::AUTHORIZATION)?
+        .to_str()
+        .ok()?
+        .strip_prefix("Bearer ")
+        .map(str::trim)
+}
+
+/// 401 with the RFC 6750 challenge, as JSON on every path (only scripts send bearer tokens).
+fn invalid_token() -> Response {
+    (
+        StatusCode::UNAUTHORIZED,
+        [(header::WWW_AUTHENTICATE, r#"Bearer error="invalid_token""#)],
+        Json(ErrorBody {
+            error: "the API token is not valid or has been revoked".into(),
+            field: None,
+        }),
+    )
+        .into_response()
 }
 
 /// The value of one cookie of the request.
