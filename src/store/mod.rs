@@ -1,5 +1,6 @@
 //! The only module that speaks SQL: one file per aggregate, all on one `Store`.
 
+mod attachments;
 mod builds;
 mod readings;
 mod revisions;
@@ -14,6 +15,9 @@ use std::time::Duration;
 use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions, SqliteSynchronous};
 use sqlx::{Sqlite, SqlitePool, Transaction};
 
+pub use attachments::{
+    Attachment, AttachmentFiles, AttachmentId, AttachmentKind, NewAttachment, StoredFile,
+};
 pub use builds::{Build, BuildSummary, NewBuild};
 pub use readings::{NewReading, ReadingRow};
 pub use revisions::{Revision, revision_number};

@@ -1,6 +1,7 @@
 //! Pages, the JSON API and their middleware. Each area has its own `router()`; `app` merges them.
 
 mod api;
+mod attachments;
 mod auth;
 mod builds;
 mod chrome;
@@ -48,6 +49,7 @@ pub fn app(state: AppState) -> Router {
         .merge(builds::router())
         .merge(revisions::router())
         .merge(runs::router())
+        .merge(attachments::router())
         .merge(api::router())
         .route("/healthz", get(healthz))
         .nest_service("/static", ServeDir::new(static_dir))

@@ -94,7 +94,7 @@ fn default_channels(parts: &Parts, load: &str) -> Vec<String> {
     names
 }
 
-async fn build_and_run(state: &AppState, slug: &str, id: i64) -> Result<(Build, Run)> {
+pub(super) async fn build_and_run(state: &AppState, slug: &str, id: i64) -> Result<(Build, Run)> {
     let build = state.store.build_by_slug(slug).await?;
     let run = state.store.run_by_id(RunId(id)).await?;
     if run.build_id != build.id {
@@ -371,6 +371,7 @@ struct ShowPage {
     failed_part_title: String,
     error: String,
     error_channel: String,
+    attachments: Vec<super::attachments::AttachmentView>,
 }
 
 /// One big field and an "add" button per channel in use.
@@ -511,6 +512,7 @@ async fn show(
         failed_part_title,
         error: query.error.chars().take(200).collect(),
         error_channel: query.channel,
+        attachments: super::attachments::views_of_run(&state, &build, &run).await?,
         build,
         run,
     })
