@@ -197,7 +197,11 @@ impl AttachmentFiles {
 
     pub fn thumbnail_path(&self, sha256: &str) -> StoreResult<PathBuf> {
         let (fan, rest) = split_hash(sha256)?;
-        Ok(self.root.join("thumbs").join(fan).join(format!("{rest}.jpg")))
+        Ok(self
+            .root
+            .join("thumbs")
+            .join(fan)
+            .join(format!("{rest}.jpg")))
     }
 
     /// Stores bytes under their SHA-256 unless that file exists already. Blocking: call from a
@@ -236,8 +240,10 @@ impl AttachmentFiles {
 
 /// `ab` and `cdef…` of a well-formed hash; anything else is refused before it nears a path.
 fn split_hash(sha256: &str) -> StoreResult<(&str, &str)> {
-    let well_formed =
-        sha256.len() == 64 && sha256.bytes().all(|b| matches!(b, b'0'..=b'9' | b'a'..=b'f'));
+    let well_formed = sha256.len() == 64
+        && sha256
+            .bytes()
+            .all(|b| matches!(b, b'0'..=b'9' | b'a'..=b'f'));
     if !well_formed {
         return Err(StoreError::Corrupt(format!(
             "not a SHA-256 file name: {sha256:?}"

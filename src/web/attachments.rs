@@ -20,6 +20,7 @@ use super::view::date_time;
 use super::{AppError, AppState, Result};
 use crate::store::{
     Attachment, AttachmentFiles, AttachmentId, AttachmentKind, Build, NewAttachment, Run,
+    SessionUser,
 };
 use media::{ImageType, Refusal, THUMBNAIL_PX};
 
@@ -71,12 +72,13 @@ pub struct AttachmentView {
 }
 
 /// The gallery of a run, for the run page.
-pub async fn views_of_run(state: &AppState, build: &Build, run: &Run) -> Result<Vec<AttachmentView>> {
+pub async fn views_of_run(
+    state: &AppState,
+    build: &Build,
+    run: &Run,
+) -> Result<Vec<AttachmentView>> {
     let attachments = state.store.attachments_of_run(run.id).await?;
-    Ok(attachments
-        .iter()
-        .map(|a| view(build, run, a))
-        .collect())
+    Ok(attachments.iter().map(|a| view(build, run, a)).collect())
 }
 
 fn view(build: &Build, run: &Run, a: &Attachment) -> AttachmentView {
@@ -159,9 +161,7 @@ async fn upload(
     let mut received = receive(multipart).await?;
     let kind = AttachmentKind::parse(&received.kind);
     if kind.is_none() {
-        received
-            .errors
-            .add("kind", "choose what the picture shows");
+        received.errors.add("kind", "choose what the picture shows");
     }
     let caption: String = received
         .caption
@@ -191,8 +191,9 @@ async fn upload(
     } else {
         StatusCode::UNPROCESSABLE_ENTITY
     };
-    let (Some(kind), true) = (kind, received.errors.is_empty()) else {
-        return Ok(refused(status, user, build, run, received));
+    let kind = match kind {
+        Some(kind) if received.errors.is_empty() => kind,
+        _ => return Ok(refused(status, user, build, run, received)),
     };
     let (bytes, examined) = tokio::task::spawn_blocking(move || {
         let examined = media::examine(&bytes);
@@ -246,15 +247,12 @@ async fn upload(
         deduplicated = !stored.newly_written,
         "picture attached"
     );
-    Ok(Redirect::to(&format!(
-        "/builds/{slug}/runs/{id}#attachment-{attachment}"
-    ))
-    .into_response())
+    Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#attachment-{attachment}")).into_response())
 }
 
 fn refused(
     status: StatusCode,
-    user: crate::store::SessionUser,
+    user: SessionUser,
     build: Build,
     run: Run,
     received: Received,
@@ -365,7 +363,13 @@ async fn original(
     let image_type = stored_type(&attachment)?;
     let etag = format!("\"{}\"", attachment.sha256);
     if not_modified(&request_headers, &etag) {
-        return Ok(picture_headers(StatusCode::NOT_MODIFIED, image_type, &attachment, "", &etag));
+        return Ok(picture_headers(
+            StatusCode::NOT_MODIFIED,
+            image_type,
+            &attachment,
+            "",
+            &etag,
+        ));
     }
     let bytes = AttachmentFiles::in_data_dir(&state.config.data_dir)
         .read_original(&attachment.sha256)

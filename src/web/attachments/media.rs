@@ -132,7 +132,10 @@ pub fn examine(bytes: &[u8]) -> Result<Examined, Refusal> {
     let (width, height) = size_px;
     let thumbnail = if width.max(height) > THUMBNAIL_PX {
         picture.apply_orientation(orientation);
-        Some(thumbnail_jpeg(&picture, fit_within(width, height, THUMBNAIL_PX)))
+        Some(thumbnail_jpeg(
+            &picture,
+            fit_within(width, height, THUMBNAIL_PX),
+        ))
     } else {
         None
     };
@@ -210,7 +213,8 @@ fn thumbnail_jpeg(picture: &DynamicImage, (width, height): (u32, u32)) -> Vec<u8
         for pixel in rgba.pixels_mut() {
             let alpha = pixel[3] as u32;
             for channel in 0..3 {
-                pixel[channel] = ((pixel[channel] as u32 * alpha + 255 * (255 - alpha)) / 255) as u8;
+                pixel[channel] =
+                    ((pixel[channel] as u32 * alpha + 255 * (255 - alpha)) / 255) as u8;
             }
             pixel[3] = 255;
         }
