@@ -1,5 +1,6 @@
 //! The only module that speaks SQL: one file per aggregate, all on one `Store`.
 
+mod attachments;
 mod builds;
 mod digests;
 mod readings;
@@ -16,6 +17,9 @@ use std::time::Duration;
 use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions, SqliteSynchronous};
 use sqlx::{Sqlite, SqlitePool, Transaction};
 
+pub use attachments::{
+    Attachment, AttachmentFiles, AttachmentId, AttachmentKind, NewAttachment, StoredFile,
+};
 pub use builds::{Build, BuildSummary, NewBuild};
 pub use readings::{NewReading, ReadingRow, ReadingsImport};
 pub use revisions::{Revision, revision_number};

@@ -2,6 +2,7 @@
 
 mod api;
 mod api_logbook;
+mod attachments;
 mod auth;
 mod build_view;
 mod builds;
@@ -57,6 +58,7 @@ pub fn app(state: AppState) -> Router {
         .merge(revisions::router())
         .merge(runs::router())
         .merge(run_analysis::router())
+        .merge(attachments::router())
         .merge(api::router())
         .merge(model_api::router())
         .merge(api_logbook::router())

@@ -99,7 +99,7 @@ pub fn default_channels(parts: &Parts, load: &str) -> Vec<String> {
     names
 }
 
-async fn build_and_run(state: &AppState, slug: &str, id: i64) -> Result<(Build, Run)> {
+pub(super) async fn build_and_run(state: &AppState, slug: &str, id: i64) -> Result<(Build, Run)> {
     let build = state.store.build_by_slug(slug).await?;
     let run = state.store.run_by_id(RunId(id)).await?;
     if run.build_id != build.id {
@@ -377,6 +377,7 @@ struct ShowPage {
     error: String,
     error_channel: String,
     analysis: AnalysisView,
+    attachments: Vec<super::attachments::AttachmentView>,
 }
 
 /// One big field and an "add" button per channel in use.
@@ -530,6 +531,7 @@ async fn show(
         error: query.error.chars().take(200).collect(),
         error_channel: query.channel,
         analysis,
+        attachments: super::attachments::views_of_run(&state, &build, &run).await?,
         build,
         run,
     })
