@@ -1,6 +1,7 @@
 //! The only module that speaks SQL: one file per aggregate, all on one `Store`.
 
 mod builds;
+mod export;
 mod readings;
 mod revisions;
 mod runs;
@@ -15,6 +16,7 @@ use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions, S
 use sqlx::{Sqlite, SqlitePool, Transaction};
 
 pub use builds::{Build, BuildSummary, NewBuild};
+pub use export::ImportError;
 pub use readings::{NewReading, ReadingRow};
 pub use revisions::{Revision, revision_number};
 pub use runs::{NewRun, Outcome, Run, RunFinish};
