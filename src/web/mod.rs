@@ -6,6 +6,7 @@ mod builds;
 mod chrome;
 mod csrf;
 mod error;
+mod export;
 mod forms;
 pub mod model_api;
 mod model_panel;
@@ -52,6 +53,7 @@ pub fn app(state: AppState) -> Router {
         .merge(runs::router())
         .merge(api::router())
         .merge(model_api::router())
+        .merge(export::router())
         .route("/healthz", get(healthz))
         .nest_service("/static", ServeDir::new(static_dir))
         .layer(middleware::from_fn_with_state(state.clone(), csrf::guard))
