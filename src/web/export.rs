@@ -21,7 +21,13 @@ pub fn router() -> Router<AppState> {
 
 async fn document(state: &AppState, slug: &str) -> Result<BuildDocument> {
     let mut document = state.store.export_build(slug).await?;
-    document.add_analyses();
+    // Fitting every run of a long build is CPU work; keep it off the request threads.
+    let document = tokio::task::spawn_blocking(move || {
+        document.add_analyses();
+        document
+    })
+    .await
+    .map_err(anyhow::Error::from)?;
     Ok(document)
 }
 
