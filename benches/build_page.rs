@@ -31,9 +31,23 @@ fn parts() -> Parts {
             max_temp_c: Some(85.0),
             self_heating_limit_k: None,
         }),
-        work_coil: Some(WorkCoil { inductance_h: Some(1.2e-6), ..WorkCoil::default() }),
-        choke: Some(Choke { label: None, inductance_h: 100e-6, count: 2, dcr_ohm: Some(0.02), saturation_current_a: Some(20.0), max_temp_c: Some(120.0) }),
-        supply: Some(Supply { label: None, nominal_voltage_v: Some(24.0), current_limit_a: Some(30.0) }),
+        work_coil: Some(WorkCoil {
+            inductance_h: Some(1.2e-6),
+            ..WorkCoil::default()
+        }),
+        choke: Some(Choke {
+            label: None,
+            inductance_h: 100e-6,
+            count: 2,
+            dcr_ohm: Some(0.02),
+            saturation_current_a: Some(20.0),
+            max_temp_c: Some(120.0),
+        }),
+        supply: Some(Supply {
+            label: None,
+            nominal_voltage_v: Some(24.0),
+            current_limit_a: Some(30.0),
+        }),
         ..Parts::default()
     }
 }
@@ -45,11 +59,31 @@ fn readings(seed: usize) -> Vec<NewReading> {
         let t = k as f64 * 6.0;
         let rise = 1.0 - (-t / 300.0).exp();
         let wobble = ((seed * 31 + k * 7) % 13) as f64 * 0.02;
-        out.push(NewReading { t_s: t, channel: "supply_voltage".into(), value: 24.0 - wobble });
-        out.push(NewReading { t_s: t, channel: "supply_current".into(), value: 8.0 + wobble });
-        out.push(NewReading { t_s: t, channel: "frequency".into(), value: 110_000.0 + 10.0 * wobble });
-        out.push(NewReading { t_s: t, channel: "temp.tank_capacitor".into(), value: 22.0 + 30.0 * rise + wobble });
-        out.push(NewReading { t_s: t, channel: "ambient_temp".into(), value: 22.0 });
+        out.push(NewReading {
+            t_s: t,
+            channel: "supply_voltage".into(),
+            value: 24.0 - wobble,
+        });
+        out.push(NewReading {
+            t_s: t,
+            channel: "supply_current".into(),
+            value: 8.0 + wobble,
+        });
+        out.push(NewReading {
+            t_s: t,
+            channel: "frequency".into(),
+            value: 110_000.0 + 10.0 * wobble,
+        });
+        out.push(NewReading {
+            t_s: t,
+            channel: "temp.tank_capacitor".into(),
+            value: 22.0 + 30.0 * rise + wobble,
+        });
+        out.push(NewReading {
+            t_s: t,
+            channel: "ambient_temp".into(),
+            value: 22.0,
+        });
     }
     out
 }
@@ -57,8 +91,19 @@ fn readings(seed: usize) -> Vec<NewReading> {
 async fn seeded(runs: usize) -> (tempfile::TempDir, Store) {
     let dir = tempfile::tempdir().unwrap();
     let store = Store::open(dir.path()).await.unwrap();
-    let build = store.create_build(&NewBuild { name: "Bench", purpose: "", notes: "", created_by: None }).await.unwrap();
-    let revision = store.create_revision(build.id, None, &parts(), "", None).await.unwrap();
+    let build = store
+        .create_build(&NewBuild {
+            name: "Bench",
+            purpose: "",
+            notes: "",
+            created_by: None,
+        })
+        .await
+        .unwrap();
+    let revision = store
+        .create_revision(build.id, None, &parts(), "", None)
+        .await
+        .unwrap();
     for i in 0..runs {
         let id = store
             .create_run(&NewRun {
@@ -78,7 +123,18 @@ async fn seeded(runs: usize) -> (tempfile::TempDir, Store) {
             .await
             .unwrap();
         store.add_readings(id, &readings(i), None).await.unwrap();
-        store.finish_run(id, &RunFinish { outcome: Outcome::Completed, failed_part: None, note: "", finished_at: None }).await.unwrap();
+        store
+            .finish_run(
+                id,
+                &RunFinish {
+                    outcome: Outcome::Completed,
+                    failed_part: None,
+                    note: "",
+                    finished_at: None,
+                },
+            )
+            .await
+            .unwrap();
     }
     (dir, store)
 }
@@ -87,7 +143,13 @@ async fn view(router: &axum::Router, cookie: &str) -> f64 {
     let start = Instant::now();
     let response = router
         .clone()
-        .oneshot(Request::get("/builds/bench").header("host", "bench").header("cookie", cookie).body(Body::empty()).unwrap())
+        .oneshot(
+            Request::get("/builds/bench")
+                .header("host", "bench")
+                .header("cookie", cookie)
+                .body(Body::empty())
+                .unwrap(),
+        )
         .await
         .unwrap();
     assert!(response.status().is_success(), "{}", response.status());
@@ -98,14 +160,26 @@ async fn view(router: &axum::Router, cookie: &str) -> f64 {
 #[tokio::main]
 async fn main() {
     println!("build page, one build, 1,000 readings per run");
-    println!("{:>6} {:>14} {:>16}", "runs", "first view ms", "warm median ms");
+    println!(
+        "{:>6} {:>14} {:>16}",
+        "runs", "first view ms", "warm median ms"
+    );
     for runs in [10, 100, 1000] {
         let (dir, store) = seeded(runs).await;
-        let user = store.create_user("bench", "Bench", UserRole::Viewer, "unused").await.unwrap();
+        let user = store
+            .create_user("bench", "Bench", UserRole::Viewer, "unused")
+            .await
+            .unwrap();
         let session = random_token();
-        store.create_session(&token_hash(&session), user, &random_token()).await.unwrap();
+        store
+            .create_session(&token_hash(&session), user, &random_token())
+            .await
+            .unwrap();
         let cookie = format!("eb_session={session}");
-        let router = app(AppState { store, config: Arc::new(Config::new(dir.path().to_path_buf())) });
+        let router = app(AppState {
+            store,
+            config: Arc::new(Config::new(dir.path().to_path_buf())),
+        });
         let first = view(&router, &cookie).await;
         let mut warm = Vec::new();
         for _ in 0..9 {

@@ -10,6 +10,8 @@ pub mod charts;
 pub mod config;
 /// The demo scenario.
 pub mod demo;
+/// A build as one JSON document (export and import between instances) and as CSV tables.
+pub mod export;
 /// The parts contract of a revision.
 pub mod parts;
 /// Pure driver physics: each formula once, with its source.

@@ -75,6 +75,28 @@ enum Command {
         #[arg(long)]
         table: bool,
     },
+    /// Write a build as one JSON file (standard output unless --out), or as a directory of CSV
+    /// tables for a spreadsheet
+    Export {
+        /// The build's slug, as in its address /builds/SLUG
+        slug: String,
+        #[arg(long, value_enum, default_value = "json")]
+        format: ExportFormat,
+        /// The file to write (json), or the directory to write the tables into (csv)
+        /// [default for csv: ./SLUG-csv]
+        #[arg(long)]
+        out: Option<PathBuf>,
+        #[command(flatten)]
+        data: DataDir,
+    },
+    /// Recreate a build from an export JSON file (`-` reads standard input) and print its slug,
+    /// which is SLUG-2, SLUG-3, ... when the exported slug is taken here
+    Import {
+        /// The export file, or `-` for standard input
+        file: PathBuf,
+        #[command(flatten)]
+        data: DataDir,
+    },
     /// Manage accounts
     User {
         #[command(subcommand)]
@@ -106,6 +128,12 @@ impl From<RoleArg> for UserRole {
             RoleArg::Viewer => UserRole::Viewer,
         }
     }
+}
+
+#[derive(Clone, Copy, ValueEnum)]
+enum ExportFormat {
+    Json,
+    Csv,
 }
 
 #[derive(Subcommand)]
@@ -182,6 +210,19 @@ async fn main() -> anyhow::Result<()> {
             run_server(store, config_for(&serve, path), serve.listen, Some(banner)).await
         }
         Command::Model { file, table } => model_command(&file, table),
+        Command::Export {
+            slug,
+            format,
+            out,
+            data,
+        } => {
+            let store = Store::open(&data.path()).await?;
+            export_command(&store, &slug, format, out).await
+        }
+        Command::Import { file, data } => {
+            let store = Store::open(&data.path()).await?;
+            import_command(&store, &file).await
+        }
         Command::User { command, data } => {
             let store = Store::open(&data.path()).await?;
             user_command(&store, command).await
@@ -281,6 +322,61 @@ async fn user_command(store: &Store, command: UserCommand) -> anyhow::Result<()>
             Ok(())
         }
     }
+}
+
+async fn export_command(
+    store: &Store,
+    slug: &str,
+    format: ExportFormat,
+    out: Option<PathBuf>,
+) -> anyhow::Result<()> {
+    use eddybench::export::tables::{Table, write_table};
+    let mut document = match store.export_build(slug).await {
+        Err(eddybench::store::StoreError::NotFound) => bail!("there is no build `{slug}`"),
+        other => other?,
+    };
+    document.add_analyses();
+    match (format, out) {
+        (ExportFormat::Json, None) => println!("{}", document.to_json()),
+        (ExportFormat::Json, Some(path)) => std::fs::write(&path, document.to_json() + "\n")
+            .with_context(|| format!("cannot write {}", path.display()))?,
+        (ExportFormat::Csv, out) => {
+            let dir = out.unwrap_or_else(|| PathBuf::from(format!("{slug}-csv")));
+            std::fs::create_dir_all(&dir)
+                .with_context(|| format!("cannot create {}", dir.display()))?;
+            for table in Table::ALL {
+                let path = dir.join(table.file_name());
+                std::fs::write(&path, write_table(&document, table))
+                    .with_context(|| format!("cannot write {}", path.display()))?;
+            }
+            eprintln!("Wrote {} tables to {}", Table::ALL.len(), dir.display());
+        }
+    }
+    Ok(())
+}
+
+async fn import_command(store: &Store, file: &std::path::Path) -> anyhow::Result<()> {
+    let text = if file.as_os_str() == "-" {
+        let mut text = String::new();
+        std::io::stdin().read_to_string(&mut text)?;
+        text
+    } else {
+        std::fs::read_to_string(file).with_context(|| format!("cannot read {}", file.display()))?
+    };
+    let document = eddybench::export::parse_document(&text)
+        .with_context(|| format!("nothing imported from {}", file.display()))?;
+    let slug = store
+        .import_build(&document)
+        .await
+        .with_context(|| format!("nothing imported from {}", file.display()))?;
+    if slug != document.build.slug {
+        eprintln!(
+            "The slug `{}` is taken here; imported as `{slug}`.",
+            document.build.slug
+        );
+    }
+    println!("{slug}");
+    Ok(())
 }
 
 fn model_command(file: &std::path::Path, table: bool) -> anyhow::Result<()> {

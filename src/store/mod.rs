@@ -3,6 +3,7 @@
 mod attachments;
 mod builds;
 mod digests;
+mod export;
 mod readings;
 mod revisions;
 mod runs;
@@ -21,6 +22,7 @@ pub use attachments::{
     Attachment, AttachmentFiles, AttachmentId, AttachmentKind, NewAttachment, StoredFile,
 };
 pub use builds::{Build, BuildSummary, NewBuild};
+pub use export::ImportError;
 pub use readings::{NewReading, ReadingRow, ReadingsImport};
 pub use revisions::{Revision, revision_number};
 pub use runs::{NewRun, Outcome, Run, RunFinish};

@@ -42,14 +42,14 @@ struct RevisionRow {
 }
 
 #[derive(sqlx::FromRow)]
-struct PartRow {
-    revision_id: RevisionId,
-    role: String,
-    params_json: String,
+pub(super) struct PartRow {
+    pub(super) revision_id: RevisionId,
+    pub(super) role: String,
+    pub(super) params_json: String,
 }
 
 /// One row per role present, in the order of `Role::ALL`; each `other` part a row of its own.
-fn part_rows(parts: &Parts) -> StoreResult<Vec<(Role, String, u32, String)>> {
+pub(super) fn part_rows(parts: &Parts) -> StoreResult<Vec<(Role, String, u32, String)>> {
     let value = serde_json::to_value(parts).map_err(|e| StoreError::Corrupt(e.to_string()))?;
     let mut rows = Vec::new();
     for role in Role::ALL {
@@ -69,7 +69,7 @@ fn part_rows(parts: &Parts) -> StoreResult<Vec<(Role, String, u32, String)>> {
     Ok(rows)
 }
 
-fn parts_from_rows(rows: &[&PartRow]) -> StoreResult<Parts> {
+pub(super) fn parts_from_rows(rows: &[&PartRow]) -> StoreResult<Parts> {
     let mut object = Map::new();
     let mut others = Vec::new();
     for row in rows {

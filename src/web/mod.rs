@@ -10,6 +10,7 @@ mod chrome;
 mod csrf;
 mod digests;
 mod error;
+mod export;
 mod forms;
 pub mod model_api;
 mod model_panel;
@@ -62,6 +63,7 @@ pub fn app(state: AppState) -> Router {
         .merge(api::router())
         .merge(model_api::router())
         .merge(api_logbook::router())
+        .merge(export::router())
         .route("/healthz", get(healthz))
         .nest_service("/static", ServeDir::new(static_dir))
         .layer(middleware::from_fn_with_state(state.clone(), csrf::guard))
