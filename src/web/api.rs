@@ -1,15 +1,10 @@
 //! The JSON API under `/api/v1`.
 
-use axum::Router;
 use axum::extract::rejection::JsonRejection;
 use axum::extract::{FromRequest, Request};
 use serde::de::DeserializeOwned;
 
-use super::{AppError, AppState};
-
-pub fn router() -> Router<AppState> {
-    Router::new()
-}
+use super::AppError;
 
 /// `Json` whose rejections are our 422 JSON error, naming the field where serde can.
 pub struct ApiJson<T>(pub T);

@@ -3,17 +3,18 @@
 //! page's CSV upload, which shares the import. A bearer token acts with its user's role: viewers
 //! may read, editors and admins may also write.
 
+use axum::Json;
 use axum::body::Bytes;
 use axum::extract::{DefaultBodyLimit, FromRequest, Multipart, Path, Request, State};
 use axum::http::{HeaderMap, StatusCode, header};
 use axum::response::{IntoResponse, Redirect, Response};
-use axum::routing::{get, post};
-use axum::{Json, Router};
+use axum::routing::post;
 use serde::{Deserialize, Serialize};
 
 use super::api::ApiJson;
 use super::error::{ErrorBody, urlencode};
 use super::readings_import::{ImportError, RowCheck, import_csv, json_rows};
+use super::routes::{Access, Routes};
 use super::runs::{LOADS, channels_of, default_channels};
 use super::session::{CurrentUser, Editor};
 use super::{AppError, AppState, Result};
@@ -30,24 +31,31 @@ const CSV_LIMIT_BYTES: u64 = 256 * 1024 * 1024;
 /// The multipart envelope around the file: its boundaries and part headers.
 const MULTIPART_OVERHEAD_BYTES: usize = 64 * 1024;
 
-pub fn router() -> Router<AppState> {
-    Router::new()
-        .route("/api/v1/builds", post(create_build))
-        .route("/api/v1/builds/{slug}", get(show_build))
-        .route("/api/v1/builds/{slug}/revisions", post(create_revision))
-        .route(
-            "/api/v1/builds/{slug}/revisions/{label}",
-            get(show_revision),
+pub fn router() -> Routes {
+    Routes::new()
+        .post("/api/v1/builds", Access::Editor, create_build)
+        .get("/api/v1/builds/{slug}", Access::Viewer, show_build)
+        .post(
+            "/api/v1/builds/{slug}/revisions",
+            Access::Editor,
+            create_revision,
         )
-        .route("/api/v1/builds/{slug}/runs", post(create_run))
-        .route("/api/v1/runs/{id}", get(show_run))
-        .route(
+        .get(
+            "/api/v1/builds/{slug}/revisions/{label}",
+            Access::Viewer,
+            show_revision,
+        )
+        .post("/api/v1/builds/{slug}/runs", Access::Editor, create_run)
+        .get("/api/v1/runs/{id}", Access::Viewer, show_run)
+        .post_with(
             "/api/v1/runs/{id}/readings",
+            Access::Editor,
             post(add_readings).layer(DefaultBodyLimit::max(JSON_LIMIT_BYTES)),
         )
-        .route("/api/v1/runs/{id}/finish", post(finish_run))
-        .route(
+        .post("/api/v1/runs/{id}/finish", Access::Editor, finish_run)
+        .post_with(
             "/builds/{slug}/runs/{id}/readings.csv",
+            Access::Editor,
             post(upload_csv).layer(DefaultBodyLimit::max(
                 CSV_LIMIT_BYTES as usize + MULTIPART_OVERHEAD_BYTES,
             )),
@@ -537,6 +545,7 @@ async fn finish_run(
             },
         )
         .await?;
+    super::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
     let run = state.store.run_by_id(run.id).await?;
     Ok(Json(run_json(&state, &build, run).await?))
 }

@@ -5,15 +5,15 @@ mod media;
 
 use askama::Template;
 use askama_web::WebTemplate;
-use axum::Router;
 use axum::extract::multipart::{Field, MultipartError};
 use axum::extract::{DefaultBodyLimit, Multipart, Path, State};
 use axum::http::{HeaderMap, HeaderValue, StatusCode, header};
 use axum::response::{IntoResponse, Redirect, Response};
-use axum::routing::{get, post};
+use axum::routing::post;
 
 use super::chrome::Chrome;
 use super::forms::FieldErrors;
+use super::routes::{Access, Routes};
 use super::runs::build_and_run;
 use super::session::{CurrentUser, Editor};
 use super::view::date_time;
@@ -24,19 +24,22 @@ use crate::store::{
 };
 use media::{ImageType, Refusal, THUMBNAIL_PX};
 
-pub fn router() -> Router<AppState> {
-    Router::new()
-        .route(
+pub fn router() -> Routes {
+    Routes::new()
+        .post_with(
             "/builds/{slug}/runs/{id}/attachments",
+            Access::Editor,
             post(upload).layer(DefaultBodyLimit::max(UPLOAD_BODY_LIMIT_BYTES)),
         )
-        .route(
+        .get(
             "/builds/{slug}/runs/{id}/attachments/{attachment}",
-            get(original),
+            Access::Viewer,
+            original,
         )
-        .route(
+        .get(
             "/builds/{slug}/runs/{id}/attachments/{attachment}/thumb",
-            get(thumbnail),
+            Access::Viewer,
+            thumbnail,
         )
 }
 

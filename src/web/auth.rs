@@ -2,23 +2,24 @@
 
 use askama::Template;
 use askama_web::WebTemplate;
+use axum::Form;
 use axum::extract::{Query, State};
 use axum::http::header;
 use axum::response::{AppendHeaders, IntoResponse, Redirect, Response};
-use axum::routing::{get, post};
-use axum::{Form, Router};
 use serde::Deserialize;
 
 use super::chrome::Chrome;
+use super::routes::{Access, Routes};
 use super::session::{PRE_SESSION_CSRF_COOKIE, SESSION_COOKIE, Visitor, cookie, set_cookie};
 use super::{AppError, AppState, Result};
 use crate::secrets::{decoy_hash, random_token, token_hash, verify_password};
 use crate::store::now_unix_s;
 
-pub fn router() -> Router<AppState> {
-    Router::new()
-        .route("/login", get(login_page).post(login))
-        .route("/logout", post(logout))
+pub fn router() -> Routes {
+    Routes::new()
+        .get("/login", Access::Public, login_page)
+        .post("/login", Access::Public, login)
+        .post("/logout", Access::Public, logout)
 }
 
 #[derive(Template, WebTemplate)]

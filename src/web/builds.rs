@@ -2,16 +2,16 @@
 
 use askama::Template;
 use askama_web::WebTemplate;
+use axum::Form;
 use axum::extract::{Path, State};
 use axum::response::{IntoResponse, Redirect, Response};
-use axum::routing::get;
-use axum::{Form, Router};
 use serde::Deserialize;
 
 use super::build_view::{BuildHealth, build_charts, build_health};
 use super::chrome::Chrome;
 use super::digests::digests_of;
 use super::forms::FieldErrors;
+use super::routes::{Access, Routes};
 use super::run_view::ChartView;
 use super::session::{CurrentUser, Editor};
 use super::view::{RunLine, date_time};
@@ -19,12 +19,12 @@ use super::{AppState, Result};
 use crate::analysis::run_summary::RunDigest;
 use crate::store::{Build, BuildSummary, NewBuild, Revision, Run};
 
-pub fn router() -> Router<AppState> {
-    Router::new()
-        .route("/", get(list))
-        .route("/builds", axum::routing::post(create))
-        .route("/builds/new", get(new_form))
-        .route("/builds/{slug}", get(show))
+pub fn router() -> Routes {
+    Routes::new()
+        .get("/", Access::Viewer, list)
+        .post("/builds", Access::Editor, create)
+        .get("/builds/new", Access::Editor, new_form)
+        .get("/builds/{slug}", Access::Viewer, show)
 }
 
 #[derive(Template, WebTemplate)]

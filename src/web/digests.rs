@@ -47,6 +47,19 @@ pub async fn digests_of(
     Ok(digests)
 }
 
+/// Makes and keeps the digest of a run that just finished, so that the build page reads it
+/// instead of the run's readings.
+pub async fn keep_digest_of_finished_run(store: &Store, run_id: crate::store::RunId) -> Result<()> {
+    let run = store.run_by_id(run_id).await?;
+    let revision = store.revision_by_id(run.revision_id).await?;
+    let digest = make_digest(store, &run, &revision).await?;
+    let json = serde_json::to_string(&digest).map_err(|e| AppError::Internal(e.into()))?;
+    store
+        .save_run_digest(run.id, SUMMARY_VERSION, &json)
+        .await?;
+    Ok(())
+}
+
 async fn make_digest(store: &Store, run: &Run, revision: &Revision) -> Result<RunDigest> {
     let readings = analysis_readings(store, run.id).await?;
     let analysis = analyse_stored_run(store, run, revision, &readings).await?;

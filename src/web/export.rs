@@ -1,22 +1,21 @@
 //! Downloads of a build for any signed-in user: the export JSON (another instance imports it
 //! with `eddybench import`) and its five CSV tables for a spreadsheet.
 
-use axum::Router;
 use axum::extract::{Path, State};
 use axum::http::header;
 use axum::response::{IntoResponse, Response};
-use axum::routing::get;
 
+use super::routes::{Access, Routes};
 use super::session::CurrentUser;
 use super::{AppError, AppState, Result};
 use crate::export::BuildDocument;
 use crate::export::tables::{Table, write_table};
 
-pub fn router() -> Router<AppState> {
-    Router::new()
-        .route("/builds/{slug}/export.json", get(json))
+pub fn router() -> Routes {
+    Routes::new()
+        .get("/builds/{slug}/export.json", Access::Viewer, json)
         // The router matches whole segments only, so `{table}.csv` is split in the handler.
-        .route("/builds/{slug}/export/{file}", get(csv_table))
+        .get("/builds/{slug}/export/{file}", Access::Viewer, csv_table)
 }
 
 async fn document(state: &AppState, slug: &str) -> Result<BuildDocument> {

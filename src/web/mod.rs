@@ -16,6 +16,7 @@ pub mod model_api;
 mod model_panel;
 mod readings_import;
 mod revisions;
+mod routes;
 mod run_analysis;
 mod run_view;
 mod runs;
@@ -28,13 +29,14 @@ use std::sync::Arc;
 use axum::Router;
 use axum::extract::{FromRef, State};
 use axum::middleware;
-use axum::routing::get;
 use tower_http::services::ServeDir;
 
 use crate::config::Config;
 use crate::store::Store;
 
 pub use error::{AppError, Result};
+use routes::Routes;
+pub use routes::{Access, RouteInfo};
 pub use session::CurrentUser;
 
 /// Everything a handler may need, passed with `State`.
@@ -50,21 +52,31 @@ impl FromRef<AppState> for Store {
     }
 }
 
-/// The whole application: every area's routes behind the middleware stack.
-pub fn app(state: AppState) -> Router {
-    let static_dir = concat!(env!("CARGO_MANIFEST_DIR"), "/static");
-    Router::new()
+/// Every area's routes, with the access each allows.
+fn all_routes() -> Routes {
+    Routes::new()
         .merge(auth::router())
         .merge(builds::router())
         .merge(revisions::router())
         .merge(runs::router())
         .merge(run_analysis::router())
         .merge(attachments::router())
-        .merge(api::router())
         .merge(model_api::router())
         .merge(api_logbook::router())
         .merge(export::router())
-        .route("/healthz", get(healthz))
+        .get("/healthz", Access::Public, healthz)
+}
+
+/// The route table (method, path, least access) the router is made of, for the access tests.
+pub fn route_table() -> Vec<RouteInfo> {
+    all_routes().table
+}
+
+/// The whole application: every area's routes behind the middleware stack.
+pub fn app(state: AppState) -> Router {
+    let static_dir = concat!(env!("CARGO_MANIFEST_DIR"), "/static");
+    all_routes()
+        .router
         .nest_service("/static", ServeDir::new(static_dir))
         .layer(middleware::from_fn_with_state(state.clone(), csrf::guard))
         .layer(middleware::from_fn_with_state(state.clone(), session::load))

@@ -1,17 +1,17 @@
 //! `POST /api/v1/model`: the driver model for a parts list at an operating point. It stores
 //! nothing, so it needs no sign-in.
 
-use axum::routing::post;
-use axum::{Json, Router};
+use axum::Json;
 use serde::{Deserialize, Serialize};
 
 use super::api::ApiJson;
-use super::{AppError, AppState, Result};
+use super::routes::{Access, Routes};
+use super::{AppError, Result};
 use crate::analysis::model::{ModelReport, OperatingPoint, evaluate, validate};
 use crate::parts::Parts;
 
-pub fn router() -> Router<AppState> {
-    Router::new().route("/api/v1/model", post(model))
+pub fn router() -> Routes {
+    Routes::new().post("/api/v1/model", Access::Public, model)
 }
 
 #[derive(Deserialize)]

@@ -4,10 +4,9 @@ use std::collections::BTreeMap;
 
 use askama::Template;
 use askama_web::WebTemplate;
+use axum::Form;
 use axum::extract::{Path, Query, State};
 use axum::response::{IntoResponse, Redirect, Response};
-use axum::routing::get;
-use axum::{Form, Router};
 use serde::Deserialize;
 
 use super::chrome::Chrome;
@@ -16,6 +15,7 @@ use super::forms::{
     parts_from_form, parts_to_form,
 };
 use super::model_panel::{ModelPanel, WhatIfQuery};
+use super::routes::{Access, Routes};
 use super::session::{CurrentUser, Editor};
 use super::view::date_time;
 use super::{AppError, AppState, Result};
@@ -23,11 +23,11 @@ use crate::parts::{Parts, Role};
 use crate::store::{Build, Revision, revision_number};
 use crate::units::{Unit, eng};
 
-pub fn router() -> Router<AppState> {
-    Router::new()
-        .route("/builds/{slug}/revisions", axum::routing::post(create))
-        .route("/builds/{slug}/revisions/new", get(new_form))
-        .route("/builds/{slug}/revisions/{label}", get(show))
+pub fn router() -> Routes {
+    Routes::new()
+        .post("/builds/{slug}/revisions", Access::Editor, create)
+        .get("/builds/{slug}/revisions/new", Access::Editor, new_form)
+        .get("/builds/{slug}/revisions/{label}", Access::Viewer, show)
 }
 
 /// A revision of a build by its label, or 404.

@@ -1,10 +1,10 @@
 //! A run's analysis from the store: its readings and revision in, `RunAnalysis` out, shared by
 //! the run page and `GET /api/v1/runs/{id}/analysis`.
 
+use axum::Json;
 use axum::extract::{Path, State};
-use axum::routing::get;
-use axum::{Json, Router};
 
+use super::routes::{Access, Routes};
 use super::session::CurrentUser;
 use super::{AppState, Result};
 use crate::analysis::efficiency::{IDLE_SUPPLY_TOLERANCE, IdleReference};
@@ -14,8 +14,8 @@ use crate::analysis::run::{Load, RunAnalysis, RunInput, analyse_run};
 use crate::channel::Channel;
 use crate::store::{Revision, Run, RunId, Store};
 
-pub fn router() -> Router<AppState> {
-    Router::new().route("/api/v1/runs/{id}/analysis", get(analysis_json))
+pub fn router() -> Routes {
+    Routes::new().get("/api/v1/runs/{id}/analysis", Access::Viewer, analysis_json)
 }
 
 /// The current readings of a run as the analysis takes them (unknown channels skipped).

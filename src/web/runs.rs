@@ -2,16 +2,16 @@
 
 use askama::Template;
 use askama_web::WebTemplate;
+use axum::Form;
 use axum::extract::{Path, Query, State};
 use axum::http::StatusCode;
 use axum::response::{IntoResponse, Redirect, Response};
-use axum::routing::{get, post};
-use axum::{Form, Router};
 use serde::Deserialize;
 
 use super::chrome::Chrome;
 use super::forms::{FieldErrors, optional_value};
 use super::revisions::find_revision;
+use super::routes::{Access, Routes};
 use super::run_analysis::{analyse_stored_run, analysis_readings};
 use super::run_view::AnalysisView;
 use super::session::{CurrentUser, Editor};
@@ -24,17 +24,22 @@ use crate::store::{
 };
 use crate::units::{Unit, parse_elapsed_s, parse_value};
 
-pub fn router() -> Router<AppState> {
-    Router::new()
-        .route("/builds/{slug}/runs", post(create))
-        .route("/builds/{slug}/runs/new", get(new_form))
-        .route("/builds/{slug}/runs/{id}", get(show))
-        .route("/builds/{slug}/runs/{id}/readings", post(add_reading))
-        .route(
-            "/builds/{slug}/runs/{id}/readings/{reading}/correct",
-            post(correct_reading),
+pub fn router() -> Routes {
+    Routes::new()
+        .post("/builds/{slug}/runs", Access::Editor, create)
+        .get("/builds/{slug}/runs/new", Access::Editor, new_form)
+        .get("/builds/{slug}/runs/{id}", Access::Viewer, show)
+        .post(
+            "/builds/{slug}/runs/{id}/readings",
+            Access::Editor,
+            add_reading,
         )
-        .route("/builds/{slug}/runs/{id}/finish", post(finish))
+        .post(
+            "/builds/{slug}/runs/{id}/readings/{reading}/correct",
+            Access::Editor,
+            correct_reading,
+        )
+        .post("/builds/{slug}/runs/{id}/finish", Access::Editor, finish)
 }
 
 /// Readings shown at once on an open run's page, newest first; the rest fold away.
@@ -708,5 +713,6 @@ async fn finish(
             },
         )
         .await?;
+    super::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}")).into_response())
 }
