@@ -5,6 +5,7 @@ mod auth;
 mod build_view;
 mod builds;
 mod chrome;
+pub mod compare;
 mod csrf;
 mod digests;
 mod error;
@@ -52,6 +53,7 @@ pub fn app(state: AppState) -> Router {
     Router::new()
         .merge(auth::router())
         .merge(builds::router())
+        .merge(compare::router())
         .merge(revisions::router())
         .merge(runs::router())
         .merge(run_analysis::router())
