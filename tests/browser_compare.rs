@@ -51,6 +51,20 @@ async fn compare_and_report_fit_a_phone_and_the_report_prints() {
         "the compare page fits the phone ({overflow} px over)"
     );
     screenshot(&client, "compare-phone").await;
+    for (section, name) in [
+        ("measured", "compare-phone-measured"),
+        ("charts", "compare-phone-charts"),
+    ] {
+        client
+            .execute(
+                "document.getElementById(arguments[0]).scrollIntoView();",
+                vec![serde_json::json!(section)],
+            )
+            .await
+            .unwrap();
+        screenshot(&client, name).await;
+    }
+    save_pdf(&client, "compare.pdf").await;
 
     client
         .goto(&served.url(&format!("/builds/{SLUG}/report")))
@@ -63,11 +77,16 @@ async fn compare_and_report_fit_a_phone_and_the_report_prints() {
     );
     screenshot(&client, "report-phone").await;
 
-    // "Save as PDF": the browser's own print of the report, kept for a person to look at.
+    save_pdf(&client, "report.pdf").await;
+
+    client.close().await.unwrap();
+}
+
+/// "Save as PDF": the browser's own print of the page (A4), kept for a person to look at.
+async fn save_pdf(client: &fantoccini::Client, name: &str) {
     let pdf = client.print(PrintConfiguration::default()).await.unwrap();
     assert!(pdf.starts_with(b"%PDF"), "a PDF");
     let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("target/screenshots");
-    std::fs::write(dir.join("report.pdf"), &pdf).unwrap();
-
-    client.close().await.unwrap();
+    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::write(dir.join(name), &pdf).unwrap();
 }

@@ -388,7 +388,7 @@ async fn five_existing_revisions_are_too_many() {
         .await;
     assert_eq!(page.status, StatusCode::OK, "{}", page.body);
     assert_eq!(
-        page.select_texts("#parts-diff li.diff-row.changed .values"),
+        page.select_texts("#parts-diff li.diff-row.changed .diff-values"),
         ["1 → 2", "2 → 5"]
     );
     assert_eq!(page.count("#charts"), 0, "no runs, no charts");

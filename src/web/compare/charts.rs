@@ -21,23 +21,29 @@ const MARKERS: [Marker; 4] = [
 pub struct Figure {
     pub chart: ChartView,
     pub x_heading: &'static str,
+    /// A line under the chart, when its series need more words than fit beside them.
+    pub caption: String,
 }
 
 impl Figure {
     pub fn new(chart: ChartView, x_heading: &'static str) -> Figure {
-        Figure { chart, x_heading }
+        Figure {
+            chart,
+            x_heading,
+            caption: String::new(),
+        }
     }
 
     fn of(chart: &LineChart, x_heading: &'static str) -> Figure {
-        Figure {
-            chart: ChartView {
+        Figure::new(
+            ChartView {
                 id: chart.id.clone(),
                 title: chart.title.clone(),
                 svg: render_line_chart(chart),
                 table: chart_table_rows(chart),
             },
             x_heading,
-        }
+        )
     }
 }
 
@@ -127,24 +133,27 @@ pub fn latest_temperature_chart(slug: &str, curves: &[LatestCurve]) -> Option<Fi
         })
         .collect();
     let chart = LineChart {
-        title: "Tank capacitor temperature, latest run of each revision".into(),
+        title: "Tank capacitor on each latest run".into(),
         x_label: "time since start (m:ss)".into(),
         y_label: "temperature (°C)".into(),
         series: curves
             .iter()
             .enumerate()
-            .map(|(k, c)| {
-                series(
-                    k,
-                    format!("{} run {} ({})", c.revision, c.run_id, c.channel_title),
-                    c.points.clone(),
-                )
-            })
+            .map(|(k, c)| series(k, format!("{} #{}", c.revision, c.run_id), c.points.clone()))
             .collect(),
         thresholds,
         x_format: AxisFormat::MinutesSeconds,
         id: format!("{slug}-compare-latest-tank"),
         ..LineChart::default()
     };
-    Some(Figure::of(&chart, "Time"))
+    let mut figure = Figure::of(&chart, "Time");
+    figure.caption = format!(
+        "The hottest logged unit of each: {}.",
+        curves
+            .iter()
+            .map(|c| format!("{} run {}, {}", c.revision, c.run_id, c.channel_title))
+            .collect::<Vec<_>>()
+            .join("; ")
+    );
+    Some(figure)
 }

@@ -16,6 +16,8 @@ pub struct RevisionRuns<'a> {
     pub label: String,
     /// Oldest first.
     pub digests: Vec<&'a RunDigest>,
+    /// The digests of the runs with a load: an idle run heats nothing, so it has no efficiency.
+    pub loaded: Vec<&'a RunDigest>,
     /// Runs that ended with a part failed.
     pub part_failed: usize,
 }
@@ -45,7 +47,7 @@ pub fn measured_rows(revisions: &[RevisionRuns]) -> Vec<CompareRow> {
     )];
     for (method, of) in METHODS {
         let values = |r: &RevisionRuns| -> Vec<f64> {
-            r.digests.iter().filter_map(|d| of(&d.efficiency)).collect()
+            r.loaded.iter().filter_map(|d| of(&d.efficiency)).collect()
         };
         if revisions.iter().all(|r| values(r).is_empty()) {
             continue;

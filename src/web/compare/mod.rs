@@ -184,6 +184,10 @@ async fn compare(
             RevisionRuns {
                 label: revision.label(),
                 digests: mine().map(|(_, d)| d).collect(),
+                loaded: mine()
+                    .filter(|(run, _)| run.load != "none")
+                    .map(|(_, d)| d)
+                    .collect(),
                 part_failed: mine()
                     .filter(|(run, _)| {
                         run.outcome.as_deref().and_then(Outcome::parse) == Some(Outcome::PartFailed)

@@ -99,12 +99,16 @@ impl RunRow {
                 .filter_map(|p| p.margin_k)
                 .reduce(f64::min)
                 .map_or_else(|| "—".into(), |m| format!("{m:.1} K")),
-            efficiency: METHODS
-                .iter()
-                .find_map(|(method, of)| {
-                    of(&digest.efficiency).map(|e| format!("{:.1} % ({method})", e * 100.0))
-                })
-                .unwrap_or_else(|| "—".into()),
+            efficiency: if run.load == "none" {
+                "— (idle)".into()
+            } else {
+                METHODS
+                    .iter()
+                    .find_map(|(method, of)| {
+                        of(&digest.efficiency).map(|e| format!("{:.1} % ({method})", e * 100.0))
+                    })
+                    .unwrap_or_else(|| "—".into())
+            },
         }
     }
 }
