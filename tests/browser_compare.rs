@@ -51,19 +51,8 @@ async fn compare_and_report_fit_a_phone_and_the_report_prints() {
         "the compare page fits the phone ({overflow} px over)"
     );
     screenshot(&client, "compare-phone").await;
-    for (section, name) in [
-        ("measured", "compare-phone-measured"),
-        ("charts", "compare-phone-charts"),
-    ] {
-        client
-            .execute(
-                "document.getElementById(arguments[0]).scrollIntoView();",
-                vec![serde_json::json!(section)],
-            )
-            .await
-            .unwrap();
-        screenshot(&client, name).await;
-    }
+    screenshot_at(&client, "measured", "compare-phone-measured").await;
+    screenshot_at(&client, "charts", "compare-phone-charts").await;
     save_pdf(&client, "compare.pdf").await;
 
     client
@@ -76,6 +65,7 @@ async fn compare_and_report_fit_a_phone_and_the_report_prints() {
         "the report fits the phone ({overflow} px over)"
     );
     screenshot(&client, "report-phone").await;
+    screenshot_at(&client, "report-runs", "report-phone-runs").await;
 
     save_pdf(&client, "report.pdf").await;
 
@@ -89,4 +79,16 @@ async fn save_pdf(client: &fantoccini::Client, name: &str) {
     let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("target/screenshots");
     std::fs::create_dir_all(&dir).unwrap();
     std::fs::write(dir.join(name), &pdf).unwrap();
+}
+
+/// A screenshot with the element of this id scrolled to the top.
+async fn screenshot_at(client: &fantoccini::Client, id: &str, name: &str) {
+    client
+        .execute(
+            "document.getElementById(arguments[0]).scrollIntoView();",
+            vec![serde_json::json!(id)],
+        )
+        .await
+        .unwrap();
+    screenshot(client, name).await;
 }

@@ -394,6 +394,26 @@ async fn five_existing_revisions_are_too_many() {
     assert_eq!(page.count("#charts"), 0, "no runs, no charts");
     let runs = row_cells(&page, "#measured-rows", "runs");
     assert_eq!(runs.len(), 3);
+
+    // A sixth revision with the fifth's parts: the step between them shows no change.
+    let fifth = app.store.revision_by_number(build.id, 5).await.unwrap();
+    app.store
+        .create_revision(build.id, Some(fifth.id), &fifth.parts, "same parts", None)
+        .await
+        .unwrap();
+    let page = app
+        .get(
+            &format!("/builds/{}/compare?revs=r5,r6", build.slug),
+            Some(&session),
+        )
+        .await;
+    assert_eq!(page.status, StatusCode::OK);
+    assert_eq!(
+        page.select_texts("#parts-diff .no-changes"),
+        ["No changes in the parts."]
+    );
+    assert_eq!(page.count("#parts-diff li.diff-row.changed"), 0);
+    assert_eq!(page.count("#parts-diff details.unchanged li"), 2);
 }
 
 #[tokio::test]

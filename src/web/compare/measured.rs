@@ -22,8 +22,11 @@ pub struct RevisionRuns<'a> {
     pub part_failed: usize,
 }
 
+/// Reads one method's efficiency from a digest.
+pub type EfficiencyOf = fn(&StoredEfficiency) -> Option<f64>;
+
 /// The efficiency methods, in the order a page trusts them, with the accessor of each.
-pub const METHODS: [(&str, fn(&StoredEfficiency) -> Option<f64>); 3] = [
+pub const METHODS: [(&str, EfficiencyOf); 3] = [
     ("calorimetric", |e| e.calorimetric),
     ("differential", |e| e.differential),
     ("model", |e| e.model),

@@ -300,8 +300,9 @@ async fn latest_curves(
         let latest = runs
             .iter()
             .zip(digests)
+            .rev()
             .filter(|(run, _)| run.revision_id == revision.id)
-            .filter_map(|(run, d)| {
+            .find_map(|(run, d)| {
                 let hottest = d
                     .trend
                     .parts
@@ -309,8 +310,7 @@ async fn latest_curves(
                     .filter(|p| p.part == Role::TankCapacitor)
                     .max_by(|a, b| a.t_max_c.total_cmp(&b.t_max_c))?;
                 Some((run, hottest))
-            })
-            .last();
+            });
         let Some((run, hottest)) = latest else {
             continue;
         };
