@@ -129,7 +129,7 @@ struct ComparePage {
 }
 
 /// Runs of a build, oldest first.
-pub(super) async fn runs_oldest_first(store: &Store, build: &Build) -> Result<Vec<Run>> {
+async fn runs_oldest_first(store: &Store, build: &Build) -> Result<Vec<Run>> {
     let mut runs = store.runs_of_build(build.id, i64::MAX).await?;
     runs.reverse();
     Ok(runs)
@@ -173,12 +173,71 @@ async fn compare(
         .filter(|run| chosen.iter().any(|r| r.id == run.revision_id))
         .collect();
     let digests = digests_of(&state.store, &build, &runs, &revisions).await?;
-    let per_revision: Vec<RevisionRuns> = chosen
+    let per_revision = group_by_revision(&chosen, &runs, &digests);
+
+    let steps = chosen
+        .windows(2)
+        .map(|pair| {
+            StepDiff::new(
+                &pair[0].label(),
+                &pair[0].parts,
+                &pair[1].label(),
+                &pair[1].parts,
+            )
+        })
+        .collect();
+
+    let supply = CommonSupply::from_query(&query, &chosen);
+    let named: Vec<(String, &Parts)> = chosen.iter().map(|r| (r.label(), &r.parts)).collect();
+    let model = supply
+        .volts
+        .map(|v| model_rows(&named, v))
+        .unwrap_or_default();
+
+    let mut figures: Vec<Figure> = margin_chart(&build.slug, &per_revision)
+        .into_iter()
+        .collect();
+    let curves = latest_curves(&state.store, &runs, &digests, &chosen).await?;
+    figures.extend(latest_temperature_chart(&build.slug, &curves));
+
+    let status = if supply.errors.is_empty() {
+        StatusCode::OK
+    } else {
+        StatusCode::UNPROCESSABLE_ENTITY
+    };
+    let page = ComparePage {
+        chrome: Chrome::new(format!("{} {}", build.name, labels.join(" vs ")), &user),
+        reversed: labels.iter().rev().cloned().collect::<Vec<_>>().join(","),
+        revs_value: labels.join(","),
+        supply_text: supply
+            .volts
+            .map_or_else(|| "—".into(), |v| eng(v, Unit::Volt).to_string()),
+        supply_typed: supply.typed,
+        supply_basis: supply.basis.into(),
+        errors: supply.errors,
+        measured_rows: measured_rows(&per_revision),
+        model_rows: model,
+        steps,
+        figures,
+        caveats: MODEL_CAVEATS,
+        labels,
+        build,
+    };
+    Ok((status, page).into_response())
+}
+
+/// Each chosen revision with its runs' digests (in the order chosen; runs oldest first).
+fn group_by_revision<'a>(
+    chosen: &[&Revision],
+    runs: &[Run],
+    digests: &'a [RunDigest],
+) -> Vec<RevisionRuns<'a>> {
+    chosen
         .iter()
         .map(|revision| {
             let mine = || {
                 runs.iter()
-                    .zip(&digests)
+                    .zip(digests)
                     .filter(|(run, _)| run.revision_id == revision.id)
             };
             RevisionRuns {
@@ -195,68 +254,42 @@ async fn compare(
                     .count(),
             }
         })
-        .collect();
+        .collect()
+}
 
-    let steps = chosen
-        .windows(2)
-        .map(|pair| {
-            StepDiff::new(
-                &pair[0].label(),
-                &pair[0].parts,
-                &pair[1].label(),
-                &pair[1].parts,
-            )
-        })
-        .collect();
+/// The supply the model is evaluated at for every chosen revision.
+struct CommonSupply {
+    /// `None` when the typed value is refused.
+    volts: Option<f64>,
+    typed: String,
+    basis: &'static str,
+    errors: FieldErrors,
+}
 
-    let supply_typed = query
-        .iter()
-        .find(|(k, _)| k == "supply_voltage_v")
-        .map(|(_, v)| v.trim().to_string())
-        .unwrap_or_default();
-    let mut errors = FieldErrors::default();
-    let (default_v, from_nominal) = default_supply_v(chosen.iter().map(|r| &r.parts));
-    let supply_v = if supply_typed.is_empty() {
-        Some(default_v)
-    } else {
-        parse_supply(&supply_typed, &mut errors)
-    };
-    let supply_basis = match (supply_typed.is_empty(), from_nominal) {
-        (false, _) => "as typed below",
-        (true, true) => "the highest nominal supply among them",
-        (true, false) => "none of them has a nominal supply",
-    };
-    let named: Vec<(String, &Parts)> = chosen.iter().map(|r| (r.label(), &r.parts)).collect();
-    let model = supply_v.map(|v| model_rows(&named, v)).unwrap_or_default();
-
-    let mut figures: Vec<Figure> = margin_chart(&build.slug, &per_revision)
-        .into_iter()
-        .collect();
-    let curves = latest_curves(&state.store, &runs, &digests, &chosen).await?;
-    figures.extend(latest_temperature_chart(&build.slug, &curves));
-
-    let status = if errors.is_empty() {
-        StatusCode::OK
-    } else {
-        StatusCode::UNPROCESSABLE_ENTITY
-    };
-    let page = ComparePage {
-        chrome: Chrome::new(format!("{} {}", build.name, labels.join(" vs ")), &user),
-        reversed: labels.iter().rev().cloned().collect::<Vec<_>>().join(","),
-        revs_value: labels.join(","),
-        supply_text: supply_v.map_or_else(|| "—".into(), |v| eng(v, Unit::Volt).to_string()),
-        supply_typed,
-        supply_basis: supply_basis.into(),
-        errors,
-        measured_rows: measured_rows(&per_revision),
-        model_rows: model,
-        steps,
-        figures,
-        caveats: MODEL_CAVEATS,
-        labels,
-        build,
-    };
-    Ok((status, page).into_response())
+impl CommonSupply {
+    /// The typed `supply_voltage_v`, else the highest nominal supply of the chosen revisions.
+    fn from_query(query: &[(String, String)], chosen: &[&Revision]) -> CommonSupply {
+        let typed = query
+            .iter()
+            .find(|(k, _)| k == "supply_voltage_v")
+            .map(|(_, v)| v.trim().to_string())
+            .unwrap_or_default();
+        let mut errors = FieldErrors::default();
+        let (default_v, from_nominal) = default_supply_v(chosen.iter().map(|r| &r.parts));
+        let (volts, basis) = if !typed.is_empty() {
+            (parse_supply(&typed, &mut errors), "as typed below")
+        } else if from_nominal {
+            (Some(default_v), "the highest nominal supply among them")
+        } else {
+            (Some(default_v), "none of them has a nominal supply")
+        };
+        CommonSupply {
+            volts,
+            typed,
+            basis,
+            errors,
+        }
+    }
 }
 
 /// The typed common supply, or the field's error.
