@@ -7,6 +7,7 @@ mod auth;
 mod build_view;
 mod builds;
 mod chrome;
+pub mod compare;
 mod csrf;
 mod digests;
 mod error;
@@ -57,6 +58,7 @@ fn all_routes() -> Routes {
     Routes::new()
         .merge(auth::router())
         .merge(builds::router())
+        .merge(compare::router())
         .merge(revisions::router())
         .merge(runs::router())
         .merge(run_analysis::router())
