@@ -14,11 +14,9 @@ mod rows;
 
 use askama::Template;
 use askama_web::WebTemplate;
-use axum::Router;
 use axum::extract::{Path, Query, State};
 use axum::http::StatusCode;
 use axum::response::{IntoResponse, Response};
-use axum::routing::get;
 
 use self::charts::{Figure, LatestCurve, latest_temperature_chart, margin_chart};
 use self::measured::{RevisionRuns, measured_rows};
@@ -28,6 +26,7 @@ use self::rows::CompareRow;
 use super::chrome::Chrome;
 use super::digests::digests_of;
 use super::forms::FieldErrors;
+use super::routes::{Access, Routes};
 use super::run_analysis::analysis_readings;
 use super::session::CurrentUser;
 use super::{AppState, Result};
@@ -43,10 +42,10 @@ use crate::units::{Unit, eng, parse_value};
 /// How many revisions one comparison may hold: more no longer reads as rows on a phone.
 pub const MAX_COMPARED: usize = 4;
 
-pub fn router() -> Router<AppState> {
-    Router::new()
-        .route("/builds/{slug}/compare", get(compare))
-        .route("/builds/{slug}/report", get(report::report))
+pub fn router() -> Routes {
+    Routes::new()
+        .get("/builds/{slug}/compare", Access::Viewer, compare)
+        .get("/builds/{slug}/report", Access::Viewer, report::report)
 }
 
 /// The chosen labels in the order given: `revs=r2,r3` (comma list) and repeated `rev=`.
