@@ -121,6 +121,7 @@ pub async fn seed(store: &Store) -> anyhow::Result<DemoLogin> {
                 .finish_run(
                     id,
                     &RunFinish {
+                        by: editor_id,
                         outcome,
                         failed_part: run.failed_part.map(|r| r.key()),
                         note: if failed { &run.notes } else { "" },

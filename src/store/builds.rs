@@ -85,6 +85,15 @@ impl Store {
         .bind(now_unix_s())
         .fetch_one(&mut *tx)
         .await?;
+        super::shares::record(
+            &mut tx,
+            new.created_by,
+            Some(build.id),
+            "build created",
+            &build.name,
+            "",
+        )
+        .await?;
         tx.commit().await?;
         Ok(build)
     }

@@ -8,6 +8,7 @@ mod readings;
 mod revisions;
 mod runs;
 mod sessions;
+mod shares;
 mod tokens;
 mod users;
 
@@ -27,6 +28,7 @@ pub use readings::{NewReading, ReadingRow, ReadingsImport};
 pub use revisions::{Revision, revision_number};
 pub use runs::{NewRun, Outcome, Run, RunFinish};
 pub use sessions::SessionUser;
+pub use shares::{AuditEvent, NewShare, Share, ShareId};
 pub use tokens::{ApiToken, NewToken, TokenUser};
 pub use users::{Role as UserRole, User};
 
@@ -139,7 +141,7 @@ impl Store {
     /// Rows in a table, for tests that check that nothing was saved. Only the logbook's own
     /// table names are accepted.
     pub async fn count_rows(&self, table: &str) -> StoreResult<i64> {
-        const TABLES: [&str; 9] = [
+        const TABLES: [&str; 13] = [
             "users",
             "sessions",
             "builds",
@@ -149,6 +151,10 @@ impl Store {
             "readings",
             "login_failures",
             "run_digests",
+            "shares",
+            "audit_events",
+            "api_tokens",
+            "attachments",
         ];
         if !TABLES.contains(&table) {
             return Err(StoreError::NotFound);

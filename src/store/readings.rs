@@ -53,8 +53,8 @@ impl Store {
         entered_by: Option<UserId>,
     ) -> StoreResult<ReadingId> {
         let mut tx = self.begin_write().await?;
-        let old: Option<(f64, String, i64)> = sqlx::query_as(
-            "SELECT t_s, channel,
+        let old: Option<(f64, String, f64, i64)> = sqlx::query_as(
+            "SELECT t_s, channel, value,
                     EXISTS (SELECT 1 FROM readings c WHERE c.corrects_id = r.id)
              FROM readings r WHERE r.id = ? AND r.run_id = ?",
         )
@@ -62,7 +62,7 @@ impl Store {
         .bind(run_id)
         .fetch_optional(&mut *tx)
         .await?;
-        let (t_s, channel, superseded) = old.ok_or(StoreError::NotFound)?;
+        let (t_s, channel, old_value, superseded) = old.ok_or(StoreError::NotFound)?;
         if superseded != 0 {
             return Err(StoreError::Conflict(
                 "this reading was already corrected; correct the newer value".into(),
@@ -74,7 +74,7 @@ impl Store {
         )
         .bind(run_id)
         .bind(t_s)
-        .bind(channel)
+        .bind(&channel)
         .bind(value)
         .bind(reading_id)
         .bind(entered_by)
@@ -82,6 +82,20 @@ impl Store {
         .fetch_one(&mut *tx)
         .await?;
         super::digests::forget_digest(&mut tx, run_id).await?;
+        let build_id: super::BuildId = sqlx::query_scalar("SELECT build_id FROM runs WHERE id = ?")
+            .bind(run_id)
+            .fetch_one(&mut *tx)
+            .await?;
+        let detail = format!("{channel} at {t_s} s: was {old_value}, now {value}");
+        super::shares::record(
+            &mut tx,
+            entered_by,
+            Some(build_id),
+            "reading corrected",
+            &format!("run {run_id}"),
+            &detail,
+        )
+        .await?;
         sqlx::query("UPDATE runs SET reading_count = reading_count + 1 WHERE id = ?")
             .bind(run_id)
             .execute(&mut *tx)
@@ -204,7 +218,22 @@ impl ReadingsImport {
 
     /// Makes every pushed row permanent and returns how many there were.
     pub async fn commit(self) -> StoreResult<u64> {
-        if let Some(tx) = self.tx {
+        if let Some(mut tx) = self.tx {
+            let build_id: super::BuildId =
+                sqlx::query_scalar("SELECT build_id FROM runs WHERE id = ?")
+                    .bind(self.run_id)
+                    .fetch_one(&mut *tx)
+                    .await?;
+            let detail = format!("{} rows", self.inserted);
+            super::shares::record(
+                &mut tx,
+                self.entered_by,
+                Some(build_id),
+                "readings imported",
+                &format!("run {}", self.run_id),
+                &detail,
+            )
+            .await?;
             tx.commit().await?;
         }
         Ok(self.inserted)

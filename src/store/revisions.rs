@@ -146,6 +146,18 @@ impl Store {
             }
             None => None,
         };
+        let from = parent_number
+            .map(|n| format!("copied from r{n}"))
+            .unwrap_or_default();
+        super::shares::record(
+            &mut tx,
+            created_by,
+            Some(build_id),
+            "revision created",
+            &format!("r{number}"),
+            &from,
+        )
+        .await?;
         tx.commit().await?;
         Ok(Revision {
             id,

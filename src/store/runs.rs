@@ -95,6 +95,8 @@ pub struct NewRun<'a> {
 }
 
 pub struct RunFinish<'a> {
+    /// Who finished it (for the audit trail).
+    pub by: Option<UserId>,
     pub outcome: Outcome,
     pub failed_part: Option<&'a str>,
     pub note: &'a str,
@@ -139,6 +141,15 @@ impl Store {
         .bind(new.notes)
         .bind(channels)
         .fetch_one(&mut *tx)
+        .await?;
+        super::shares::record(
+            &mut tx,
+            new.created_by,
+            Some(new.build_id),
+            "run started",
+            &format!("run {id}"),
+            new.load,
+        )
         .await?;
         tx.commit().await?;
         Ok(id)
@@ -211,6 +222,23 @@ impl Store {
         if done.rows_affected() == 0 {
             return Err(StoreError::Conflict("this run is already finished".into()));
         }
+        let build_id: BuildId = sqlx::query_scalar("SELECT build_id FROM runs WHERE id = ?")
+            .bind(id)
+            .fetch_one(&mut *tx)
+            .await?;
+        let detail = match finish.failed_part {
+            Some(part) => format!("{}: {part}", finish.outcome.as_str()),
+            None => finish.outcome.as_str().to_string(),
+        };
+        super::shares::record(
+            &mut tx,
+            finish.by,
+            Some(build_id),
+            "run finished",
+            &format!("run {id}"),
+            &detail,
+        )
+        .await?;
         tx.commit().await?;
         Ok(())
     }

@@ -79,6 +79,7 @@ impl Store {
         role: Role,
         password_hash: &str,
     ) -> StoreResult<UserId> {
+        let mut tx = self.begin_write().await?;
         let id = sqlx::query_scalar(
             "INSERT INTO users (name, display_name, role, password_hash, created_at)
              VALUES (?, ?, ?, ?, ?) RETURNING id",
@@ -88,9 +89,11 @@ impl Store {
         .bind(role.as_str())
         .bind(password_hash)
         .bind(now_unix_s())
-        .fetch_one(&self.pool)
+        .fetch_one(&mut *tx)
         .await
         .map_err(|e| conflict_on_unique(e, "a user of that name already exists"))?;
+        super::shares::record(&mut tx, None, None, "user added", name, role.as_str()).await?;
+        tx.commit().await?;
         Ok(id)
     }
 

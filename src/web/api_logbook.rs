@@ -503,7 +503,7 @@ struct FinishBody {
 
 async fn finish_run(
     State(state): State<AppState>,
-    Editor(_user): Editor,
+    Editor(user): Editor,
     Path(id): Path<i64>,
     ApiJson(body): ApiJson<FinishBody>,
 ) -> Result<Json<RunJson>> {
@@ -538,6 +538,7 @@ async fn finish_run(
         .finish_run(
             run.id,
             &RunFinish {
+                by: Some(user.user_id),
                 outcome: body.outcome,
                 failed_part: failed_part.as_deref(),
                 note: body.note.trim(),

@@ -13,9 +13,10 @@ use axum::routing::post;
 
 use super::chrome::Chrome;
 use super::forms::FieldErrors;
+use super::reader::Reader;
 use super::routes::{Access, Routes};
-use super::runs::build_and_run;
-use super::session::{CurrentUser, Editor};
+use super::runs::{build_and_run, reader_build_and_run};
+use super::session::Editor;
 use super::view::date_time;
 use super::{AppError, AppState, Result};
 use crate::store::{
@@ -39,6 +40,16 @@ pub fn router() -> Routes {
         .get(
             "/builds/{slug}/runs/{id}/attachments/{attachment}/thumb",
             Access::Viewer,
+            thumbnail,
+        )
+        .get(
+            "/s/{slug}/runs/{id}/attachments/{attachment}",
+            Access::Share,
+            original,
+        )
+        .get(
+            "/s/{slug}/runs/{id}/attachments/{attachment}/thumb",
+            Access::Share,
             thumbnail,
         )
 }
@@ -75,21 +86,15 @@ pub struct AttachmentView {
 }
 
 /// The gallery of a run, for the run page.
-pub async fn views_of_run(
-    state: &AppState,
-    build: &Build,
-    run: &Run,
-) -> Result<Vec<AttachmentView>> {
+/// The pictures of a run, linked under `base` (`/builds/{slug}` or a share's `/s/{token}`).
+pub async fn views_of_run(state: &AppState, base: &str, run: &Run) -> Result<Vec<AttachmentView>> {
     let attachments = state.store.attachments_of_run(run.id).await?;
-    Ok(attachments.iter().map(|a| view(build, run, a)).collect())
+    Ok(attachments.iter().map(|a| view(base, run, a)).collect())
 }
 
-fn view(build: &Build, run: &Run, a: &Attachment) -> AttachmentView {
+fn view(base: &str, run: &Run, a: &Attachment) -> AttachmentView {
     let kind = AttachmentKind::parse(&a.kind).unwrap_or(AttachmentKind::Other);
-    let href = format!(
-        "/builds/{}/runs/{}/attachments/{}",
-        build.slug, run.id, a.id
-    );
+    let href = format!("{base}/runs/{}/attachments/{}", run.id, a.id);
     let shown = match (a.width_px, a.height_px) {
         (Some(w), Some(h)) if w > 0 && h > 0 => Some(media::fit_within(
             w.try_into().unwrap_or(u32::MAX),
@@ -348,8 +353,14 @@ fn bad_form(error: MultipartError) -> AppError {
 }
 
 /// A picture of this run of this build.
-async fn find(state: &AppState, slug: &str, id: i64, attachment: i64) -> Result<Attachment> {
-    let (_, run) = build_and_run(state, slug, id).await?;
+async fn find(
+    state: &AppState,
+    reader: &Reader,
+    slug: &str,
+    id: i64,
+    attachment: i64,
+) -> Result<Attachment> {
+    let (_, run) = reader_build_and_run(state, reader, slug, id).await?;
     Ok(state
         .store
         .attachment_of_run(run.id, AttachmentId(attachment))
@@ -358,11 +369,11 @@ async fn find(state: &AppState, slug: &str, id: i64, attachment: i64) -> Result<
 
 async fn original(
     State(state): State<AppState>,
-    CurrentUser(_user): CurrentUser,
+    reader: Reader,
     Path((slug, id, attachment)): Path<(String, i64, i64)>,
     request_headers: HeaderMap,
 ) -> Result<Response> {
-    let attachment = find(&state, &slug, id, attachment).await?;
+    let attachment = find(&state, &reader, &slug, id, attachment).await?;
     let image_type = stored_type(&attachment)?;
     let etag = format!("\"{}\"", attachment.sha256);
     if not_modified(&request_headers, &etag) {
@@ -387,11 +398,11 @@ async fn original(
 /// scales it with CSS either way.
 async fn thumbnail(
     State(state): State<AppState>,
-    CurrentUser(_user): CurrentUser,
+    reader: Reader,
     Path((slug, id, attachment)): Path<(String, i64, i64)>,
     request_headers: HeaderMap,
 ) -> Result<Response> {
-    let attachment = find(&state, &slug, id, attachment).await?;
+    let attachment = find(&state, &reader, &slug, id, attachment).await?;
     let files = AttachmentFiles::in_data_dir(&state.config.data_dir);
     let thumbnail = files
         .read_thumbnail(&attachment.sha256)

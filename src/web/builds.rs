@@ -11,9 +11,11 @@ use super::build_view::{BuildHealth, build_charts, build_health};
 use super::chrome::Chrome;
 use super::digests::digests_of;
 use super::forms::FieldErrors;
+use super::reader::Reader;
 use super::routes::{Access, Routes};
 use super::run_view::ChartView;
 use super::session::{CurrentUser, Editor};
+use super::share::{ShareLine, share_lines};
 use super::view::{RunLine, date_time};
 use super::{AppState, Result};
 use crate::analysis::run_summary::RunDigest;
@@ -25,6 +27,8 @@ pub fn router() -> Routes {
         .post("/builds", Access::Editor, create)
         .get("/builds/new", Access::Editor, new_form)
         .get("/builds/{slug}", Access::Viewer, show)
+        // A share link's overview; `{slug}` is the link's token there (see reader.rs).
+        .get("/s/{slug}", Access::Share, show)
 }
 
 #[derive(Template, WebTemplate)]
@@ -138,6 +142,8 @@ struct ShowPage {
     health: Option<BuildHealth>,
     charts: Vec<ChartView>,
     revision_labels: Vec<String>,
+    shares: Vec<ShareLine>,
+    history: Vec<(String, String, String, String)>,
 }
 
 struct RevisionLine {
@@ -171,12 +177,17 @@ pub fn parts_summary(revision: &Revision) -> String {
 
 async fn show(
     State(state): State<AppState>,
-    CurrentUser(user): CurrentUser,
+    reader: Reader,
     Path(slug): Path<String>,
 ) -> Result<ShowPage> {
-    let build = state.store.build_by_slug(&slug).await?;
-    let revisions = state.store.revisions_of_build(build.id).await?;
+    let build = reader.build(&state, &slug).await?;
+    let mut revisions = state.store.revisions_of_build(build.id).await?;
     let mut all_runs = state.store.runs_of_build(build.id, i64::MAX).await?;
+    // A link to one revision shows that revision and its runs only.
+    if let Some(only) = reader.only_revision() {
+        revisions.retain(|r| r.number == only);
+        all_runs.retain(|r| r.revision_number == only);
+    }
     all_runs.reverse();
     let digests = digests_of(&state.store, &build, &all_runs, &revisions).await?;
     let latest = revisions.last().map(Revision::label);
@@ -189,11 +200,36 @@ async fn show(
     });
     let charts = build_charts(&build.slug, &digests);
     let runs: Vec<&Run> = all_runs.iter().rev().take(50).collect();
+    let chrome = reader.chrome(build.name.clone(), &build);
+    // Share pages show no links, no names of who changed what.
+    let shares = match chrome.can_edit() {
+        true => share_lines(&state.store.shares_of_build(build.id).await?),
+        false => Vec::new(),
+    };
+    let history = match reader.is_share() {
+        true => Vec::new(),
+        false => state
+            .store
+            .audit_of_build(build.id, 50)
+            .await?
+            .into_iter()
+            .map(|e| {
+                (
+                    date_time(e.at),
+                    e.actor_name,
+                    e.action,
+                    format!("{} {}", e.subject, e.detail).trim().to_string(),
+                )
+            })
+            .collect(),
+    };
     Ok(ShowPage {
+        shares,
+        history,
         health,
         charts,
         revision_labels: revisions.iter().rev().map(Revision::label).collect(),
-        chrome: Chrome::new(build.name.clone(), &user),
+        chrome,
         revisions: revisions
             .iter()
             .rev()

@@ -11,6 +11,10 @@ pub struct Chrome {
     pub title: String,
     pub user: Option<SessionUser>,
     pub csrf: String,
+    /// Where the build's links begin: `/builds/{slug}`, or `/s/{token}` on a share page.
+    pub base: String,
+    /// A read-only share page.
+    pub shared: bool,
 }
 
 impl Chrome {
@@ -19,6 +23,8 @@ impl Chrome {
             title: title.into(),
             csrf: user.csrf_token.clone(),
             user: Some(user.clone()),
+            base: String::new(),
+            shared: false,
         }
     }
 
@@ -27,6 +33,8 @@ impl Chrome {
             title: title.into(),
             user: None,
             csrf,
+            base: String::new(),
+            shared: false,
         }
     }
 

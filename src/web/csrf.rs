@@ -77,7 +77,8 @@ fn request_origin(headers: &HeaderMap) -> Option<String> {
     Some(format!("{scheme}://{host}"))
 }
 
-fn expected_origin(state: &AppState, headers: &HeaderMap) -> String {
+/// The origin users reach this server at: the configured one, else the request's Host.
+pub fn expected_origin(state: &AppState, headers: &HeaderMap) -> String {
     if let Some(origin) = &state.config.public_origin {
         return origin.trim_end_matches('/').to_string();
     }

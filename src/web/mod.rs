@@ -15,6 +15,7 @@ mod export;
 mod forms;
 pub mod model_api;
 mod model_panel;
+mod reader;
 mod readings_import;
 mod revisions;
 mod routes;
@@ -23,6 +24,7 @@ mod run_view;
 mod runs;
 mod security;
 mod session;
+mod share;
 mod view;
 
 use std::sync::Arc;
@@ -66,6 +68,7 @@ fn all_routes() -> Routes {
         .merge(model_api::router())
         .merge(api_logbook::router())
         .merge(export::router())
+        .merge(share::router())
         .get("/healthz", Access::Public, healthz)
 }
 

@@ -15,8 +15,9 @@ use super::forms::{
     parts_from_form, parts_to_form,
 };
 use super::model_panel::{ModelPanel, WhatIfQuery};
+use super::reader::Reader;
 use super::routes::{Access, Routes};
-use super::session::{CurrentUser, Editor};
+use super::session::Editor;
 use super::view::date_time;
 use super::{AppError, AppState, Result};
 use crate::parts::{Parts, Role};
@@ -28,6 +29,7 @@ pub fn router() -> Routes {
         .post("/builds/{slug}/revisions", Access::Editor, create)
         .get("/builds/{slug}/revisions/new", Access::Editor, new_form)
         .get("/builds/{slug}/revisions/{label}", Access::Viewer, show)
+        .get("/s/{slug}/revisions/{label}", Access::Share, show)
 }
 
 /// A revision of a build by its label, or 404.
@@ -127,14 +129,15 @@ struct ShowPage {
 
 async fn show(
     State(state): State<AppState>,
-    CurrentUser(user): CurrentUser,
+    reader: Reader,
     Path((slug, label)): Path<(String, String)>,
     Query(what_if): Query<WhatIfQuery>,
 ) -> Result<ShowPage> {
-    let build = state.store.build_by_slug(&slug).await?;
+    let build = reader.build(&state, &slug).await?;
     let revision = find_revision(&state, &build, &label).await?;
+    reader.check_revision(revision.number)?;
     Ok(ShowPage {
-        chrome: Chrome::new(format!("{} {}", build.name, revision.label()), &user),
+        chrome: reader.chrome(format!("{} {}", build.name, revision.label()), &build),
         label: revision.label(),
         parent: revision
             .parent_number

@@ -10,11 +10,12 @@ use serde::Deserialize;
 
 use super::chrome::Chrome;
 use super::forms::{FieldErrors, optional_value};
+use super::reader::Reader;
 use super::revisions::find_revision;
 use super::routes::{Access, Routes};
 use super::run_analysis::{analyse_stored_run, analysis_readings};
 use super::run_view::AnalysisView;
-use super::session::{CurrentUser, Editor};
+use super::session::Editor;
 use super::view::{date_time, load_title, maybe, minutes_seconds};
 use super::{AppError, AppState, Result};
 use crate::channel::{Channel, Quantity};
@@ -29,6 +30,7 @@ pub fn router() -> Routes {
         .post("/builds/{slug}/runs", Access::Editor, create)
         .get("/builds/{slug}/runs/new", Access::Editor, new_form)
         .get("/builds/{slug}/runs/{id}", Access::Viewer, show)
+        .get("/s/{slug}/runs/{id}", Access::Share, show)
         .post(
             "/builds/{slug}/runs/{id}/readings",
             Access::Editor,
@@ -110,6 +112,22 @@ pub(super) async fn build_and_run(state: &AppState, slug: &str, id: i64) -> Resu
     if run.build_id != build.id {
         return Err(AppError::NotFound);
     }
+    Ok((build, run))
+}
+
+/// The build and run of a read page, for a user or a share (limited to its revision).
+pub(super) async fn reader_build_and_run(
+    state: &AppState,
+    reader: &Reader,
+    slug: &str,
+    id: i64,
+) -> Result<(Build, Run)> {
+    let build = reader.build(state, slug).await?;
+    let run = state.store.run_by_id(RunId(id)).await?;
+    if run.build_id != build.id {
+        return Err(AppError::NotFound);
+    }
+    reader.check_revision(run.revision_number)?;
     Ok((build, run))
 }
 
@@ -430,11 +448,11 @@ struct ShowQuery {
 
 async fn show(
     State(state): State<AppState>,
-    CurrentUser(user): CurrentUser,
+    reader: Reader,
     Path((slug, id)): Path<(String, i64)>,
     Query(query): Query<ShowQuery>,
 ) -> Result<ShowPage> {
-    let (build, run) = build_and_run(&state, &slug, id).await?;
+    let (build, run) = reader_build_and_run(&state, &reader, &slug, id).await?;
     let revision = state.store.revision_by_id(run.revision_id).await?;
     let history = state.store.reading_history(run.id).await?;
     let analysis_readings = analysis_readings(&state.store, run.id).await?;
@@ -516,7 +534,7 @@ async fn show(
         .map(|(_, t)| t.clone())
         .unwrap_or_default();
     Ok(ShowPage {
-        chrome: Chrome::new(format!("Run {} of {}", run.id, build.name), &user),
+        chrome: reader.chrome(format!("Run {} of {}", run.id, build.name), &build),
         started: date_time(run.started_at),
         finished: run.finished_at.map(date_time).unwrap_or_default(),
         load: load_title(&run.load),
@@ -536,7 +554,12 @@ async fn show(
         error: query.error.chars().take(200).collect(),
         error_channel: query.channel,
         analysis,
-        attachments: super::attachments::views_of_run(&state, &build, &run).await?,
+        attachments: super::attachments::views_of_run(
+            &state,
+            &reader.chrome("", &build).base,
+            &run,
+        )
+        .await?,
         build,
         run,
     })
@@ -668,7 +691,7 @@ struct FinishForm {
 
 async fn finish(
     State(state): State<AppState>,
-    Editor(_user): Editor,
+    Editor(user): Editor,
     Path((slug, id)): Path<(String, i64)>,
     Form(form): Form<FinishForm>,
 ) -> Result<Response> {
@@ -706,6 +729,7 @@ async fn finish(
         .finish_run(
             run.id,
             &RunFinish {
+                by: Some(user.user_id),
                 outcome,
                 failed_part: failed_part.as_deref(),
                 note: form.note.trim(),

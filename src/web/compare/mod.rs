@@ -26,10 +26,10 @@ use self::rows::CompareRow;
 use super::chrome::Chrome;
 use super::digests::digests_of;
 use super::forms::FieldErrors;
+use super::reader::Reader;
 use super::routes::{Access, Routes};
 use super::run_analysis::analysis_readings;
-use super::session::CurrentUser;
-use super::{AppState, Result};
+use super::{AppError, AppState, Result};
 use crate::analysis::model::{OperatingPoint, validate};
 use crate::analysis::model_table::MODEL_CAVEATS;
 use crate::analysis::run_summary::RunDigest;
@@ -46,6 +46,8 @@ pub fn router() -> Routes {
     Routes::new()
         .get("/builds/{slug}/compare", Access::Viewer, compare)
         .get("/builds/{slug}/report", Access::Viewer, report::report)
+        .get("/s/{slug}/compare", Access::Share, compare)
+        .get("/s/{slug}/report", Access::Share, report::report)
 }
 
 /// The chosen labels in the order given: `revs=r2,r3` (comma list) and repeated `rev=`.
@@ -137,17 +139,21 @@ async fn runs_oldest_first(store: &Store, build: &Build) -> Result<Vec<Run>> {
 #[tracing::instrument(skip_all, err)]
 async fn compare(
     State(state): State<AppState>,
-    CurrentUser(user): CurrentUser,
+    reader: Reader,
     Path(slug): Path<String>,
     Query(query): Query<Vec<(String, String)>>,
 ) -> Result<Response> {
-    let build = state.store.build_by_slug(&slug).await?;
+    let build = reader.build(&state, &slug).await?;
+    // A link to one revision has nothing to compare it with.
+    if reader.only_revision().is_some() {
+        return Err(AppError::NotFound);
+    }
     let revisions = state.store.revisions_of_build(build.id).await?;
     let existing: Vec<String> = revisions.iter().map(Revision::label).collect();
     let labels = chosen_labels(&query);
     if let Some(message) = refuse_choice(&labels, &existing) {
         let page = InvalidPage {
-            chrome: Chrome::new(format!("Compare revisions of {}", build.name), &user),
+            chrome: reader.chrome(format!("Compare revisions of {}", build.name), &build),
             build,
             message,
             labels: existing.into_iter().rev().collect(),
@@ -205,7 +211,7 @@ async fn compare(
         StatusCode::UNPROCESSABLE_ENTITY
     };
     let page = ComparePage {
-        chrome: Chrome::new(format!("{} {}", build.name, labels.join(" vs ")), &user),
+        chrome: reader.chrome(format!("{} {}", build.name, labels.join(" vs ")), &build),
         reversed: labels.iter().rev().cloned().collect::<Vec<_>>().join(","),
         revs_value: labels.join(","),
         supply_text: supply

@@ -10,8 +10,8 @@ use serde::Deserialize;
 use super::super::build_view::{BuildHealth, build_charts, build_health};
 use super::super::chrome::Chrome;
 use super::super::digests::digests_of;
+use super::super::reader::Reader;
 use super::super::revisions::{PartView, part_views};
-use super::super::session::CurrentUser;
 use super::super::view::{RunLine, date_time};
 use super::super::{AppError, AppState, Result};
 use super::charts::Figure;
@@ -136,12 +136,16 @@ pub struct ReportPage {
 #[tracing::instrument(skip_all, err)]
 pub async fn report(
     State(state): State<AppState>,
-    CurrentUser(user): CurrentUser,
+    reader: Reader,
     Path(slug): Path<String>,
-    Query(query): Query<ReportQuery>,
+    Query(mut query): Query<ReportQuery>,
 ) -> Result<ReportPage> {
-    let build = state.store.build_by_slug(&slug).await?;
-    let revisions = state.store.revisions_of_build(build.id).await?;
+    let build = reader.build(&state, &slug).await?;
+    let mut revisions = state.store.revisions_of_build(build.id).await?;
+    if let Some(only) = reader.only_revision() {
+        revisions.retain(|r| r.number == only);
+        query.rev = Some(format!("r{only}"));
+    }
     let chosen: Option<&Revision> = match query.rev.as_deref().map(str::trim) {
         Some(label) if !label.is_empty() => Some(
             revisions
@@ -167,7 +171,7 @@ pub async fn report(
         build_health(&label, &of_revision)
     });
     Ok(ReportPage {
-        chrome: Chrome::new(format!("Report: {}", build.name), &user),
+        chrome: reader.chrome(format!("Report: {}", build.name), &build),
         generated: date_time(now_unix_s()),
         revision: shown.map(Revision::label).unwrap_or_default(),
         revision_notes: shown.map(|r| r.notes.clone()).unwrap_or_default(),
