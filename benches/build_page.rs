@@ -127,6 +127,7 @@ async fn seeded(runs: usize) -> (tempfile::TempDir, Store) {
             .finish_run(
                 id,
                 &RunFinish {
+                    by: None,
                     outcome: Outcome::Completed,
                     failed_part: None,
                     note: "",

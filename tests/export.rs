@@ -98,6 +98,7 @@ async fn logged_run(
             .finish_run(
                 run,
                 &RunFinish {
+                    by: None,
                     outcome,
                     failed_part,
                     note,
@@ -545,6 +546,7 @@ async fn csv_tables_escape_formulas_and_keep_numbers_numeric() {
         .finish_run(
             run,
             &RunFinish {
+                by: None,
                 outcome: Outcome::Stopped,
                 failed_part: None,
                 note: "\tindented",

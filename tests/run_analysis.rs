@@ -99,6 +99,7 @@ impl Fixture {
                 .finish_run(
                     id,
                     &RunFinish {
+                        by: None,
                         outcome: Outcome::Completed,
                         failed_part: None,
                         note: "",
