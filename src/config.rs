@@ -12,6 +12,9 @@ pub struct Config {
     /// The origin browsers use to reach the server (`https://heater.example.org`). When unset the
     /// request's own Host header is the expected origin of form posts.
     pub public_origin: Option<String>,
+    /// Behind a reverse proxy: believe its `X-Forwarded-Proto` and `X-Forwarded-Host` for the
+    /// expected origin. Off by default: anyone can send those headers to a bare server.
+    pub trust_forwarded: bool,
     /// Session lifetime without activity, and in all.
     pub session_idle_s: i64,
     pub session_absolute_s: i64,
@@ -23,6 +26,7 @@ impl Config {
             data_dir,
             secure_cookies: false,
             public_origin: None,
+            trust_forwarded: false,
             session_idle_s: 12 * 3600,
             session_absolute_s: 14 * 24 * 3600,
         }

@@ -47,6 +47,9 @@ struct ServeArgs {
     /// The origin users reach the server at, e.g. https://heater.example.org (behind a proxy)
     #[arg(long, env = "EDDYBENCH_PUBLIC_ORIGIN")]
     public_origin: Option<String>,
+    /// Believe a reverse proxy's X-Forwarded-Proto and X-Forwarded-Host (only behind one)
+    #[arg(long, env = "EDDYBENCH_TRUST_FORWARDED")]
+    trust_forwarded: bool,
 }
 
 #[derive(Subcommand)]
@@ -242,6 +245,7 @@ fn config_for(serve: &ServeArgs, data_dir: PathBuf) -> Config {
             .as_deref()
             .is_some_and(|o| o.starts_with("https://"));
     config.public_origin = serve.public_origin.clone();
+    config.trust_forwarded = serve.trust_forwarded;
     config
 }
 
@@ -291,8 +295,8 @@ async fn user_command(store: &Store, command: UserCommand) -> anyhow::Result<()>
                 let mut text = String::new();
                 std::io::stdin().read_to_string(&mut text)?;
                 let text = text.trim_end_matches(['\n', '\r']).to_string();
-                if text.chars().count() < 10 {
-                    bail!("use a password of at least 10 characters");
+                if text.chars().count() < 12 {
+                    bail!("use a password of at least 12 characters");
                 }
                 (text, false)
             } else {

@@ -116,6 +116,37 @@ impl Store {
         rows.into_iter().map(User::try_from).collect()
     }
 
+    /// Sets a new password hash and ends every session of the account but `keep_session_hash`.
+    pub async fn change_password(
+        &self,
+        id: UserId,
+        password_hash: &str,
+        keep_session_hash: &str,
+    ) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
+        sqlx::query("UPDATE users SET password_hash = ? WHERE id = ?")
+            .bind(password_hash)
+            .bind(id)
+            .execute(&mut *tx)
+            .await?;
+        sqlx::query("DELETE FROM sessions WHERE user_id = ? AND id_hash <> ?")
+            .bind(id)
+            .bind(keep_session_hash)
+            .execute(&mut *tx)
+            .await?;
+        super::shares::record(
+            &mut tx,
+            Some(id),
+            None,
+            "password changed",
+            "own account",
+            "other sessions ended",
+        )
+        .await?;
+        tx.commit().await?;
+        Ok(())
+    }
+
     /// Counts a failed sign-in under the name that was typed.
     pub async fn record_login_failure(&self, name: &str) -> StoreResult<()> {
         sqlx::query(

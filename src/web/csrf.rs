@@ -82,14 +82,16 @@ pub fn expected_origin(state: &AppState, headers: &HeaderMap) -> String {
     if let Some(origin) = &state.config.public_origin {
         return origin.trim_end_matches('/').to_string();
     }
-    let host = headers
-        .get(header::HOST)
-        .and_then(|v| v.to_str().ok())
+    let header_text = |name: &str| headers.get(name).and_then(|v| v.to_str().ok());
+    let forwarded = |name: &str| header_text(name).filter(|_| state.config.trust_forwarded);
+    let host = forwarded("x-forwarded-host")
+        .or_else(|| header_text(header::HOST.as_str()))
         .unwrap_or("");
-    let scheme = if state.config.secure_cookies {
-        "https"
-    } else {
-        "http"
+    let scheme = match forwarded("x-forwarded-proto") {
+        Some(proto) if proto.eq_ignore_ascii_case("https") => "https",
+        Some(_) => "http",
+        None if state.config.secure_cookies => "https",
+        None => "http",
     };
     format!("{scheme}://{host}")
 }

@@ -1,5 +1,6 @@
 //! Pages, the JSON API and their middleware. Each area has its own `router()`; `app` merges them.
 
+mod account;
 mod api;
 mod api_logbook;
 mod attachments;
@@ -55,9 +56,13 @@ impl FromRef<AppState> for Store {
     }
 }
 
+/// The largest request body outside the routes that set their own limit.
+const REQUEST_BODY_LIMIT_BYTES: usize = 1024 * 1024;
+
 /// Every area's routes, with the access each allows.
 fn all_routes() -> Routes {
     Routes::new()
+        .merge(account::router())
         .merge(auth::router())
         .merge(builds::router())
         .merge(compare::router())
@@ -83,6 +88,10 @@ pub fn app(state: AppState) -> Router {
     all_routes()
         .router
         .nest_service("/static", ServeDir::new(static_dir))
+        // Forms and JSON bodies; the routes that take more (readings, pictures) set their own.
+        .layer(axum::extract::DefaultBodyLimit::max(
+            REQUEST_BODY_LIMIT_BYTES,
+        ))
         .layer(middleware::from_fn_with_state(state.clone(), csrf::guard))
         .layer(middleware::from_fn_with_state(state.clone(), session::load))
         .layer(middleware::from_fn(error::render))

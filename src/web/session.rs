@@ -121,6 +121,22 @@ fn invalid_token() -> Response {
         .into_response()
 }
 
+/// A signed-in administrator.
+#[derive(Clone, Debug)]
+pub struct Admin(pub SessionUser);
+
+impl<S: Send + Sync> FromRequestParts<S> for Admin {
+    type Rejection = AppError;
+    async fn from_request_parts(parts: &mut Parts, state: &S) -> Result<Self, AppError> {
+        let CurrentUser(user) = CurrentUser::from_request_parts(parts, state).await?;
+        if user.role >= UserRole::Admin {
+            Ok(Admin(user))
+        } else {
+            Err(AppError::Forbidden)
+        }
+    }
+}
+
 /// The value of one cookie of the request.
 pub fn cookie(headers: &HeaderMap, name: &str) -> Option<String> {
     headers
