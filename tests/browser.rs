@@ -130,3 +130,104 @@ async fn phone_sign_in_build_revision_and_run() {
 
     client.close().await.unwrap();
 }
+
+/// The bench flow on the demo data: one tap starts a run pre-filled from the last run of the
+/// revision, readings go in by tapping Add, a reload loses nothing, finishing shows the analysis.
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn phone_logs_a_whole_run_at_the_bench() {
+    let served = Served::start().await;
+    eddybench::demo::seed(&served.store).await.unwrap();
+    let driver = Driver::start();
+    let profile = tempfile::tempdir().unwrap();
+    let client = driver.phone(profile.path()).await;
+
+    client.goto(&served.url("/login")).await.unwrap();
+    fill(&client, "input[name=name]", "demo").await;
+    fill(&client, "input[name=password]", "bench-demo-2026").await;
+    click_and_load(&client, "form[action='/login'] button[type=submit]").await;
+    client
+        .goto(&served.url("/builds/tool-room-heater"))
+        .await
+        .unwrap();
+    assert!(
+        horizontal_overflow_px(&client).await <= 0,
+        "the build page fits the phone"
+    );
+    screenshot(&client, "build-page-top-phone").await;
+
+    click_and_load(&client, "#start-run").await;
+    // Pre-filled from the latest run of r4 (36 V, idle).
+    let supply = client
+        .find(Locator::Css("input[name=supply_setting_v]"))
+        .await
+        .unwrap();
+    assert_eq!(supply.prop("value").await.unwrap().as_deref(), Some("36"));
+    let checked = client
+        .find_all(Locator::Css("input[name=channel]:checked"))
+        .await
+        .unwrap()
+        .len();
+    assert!(
+        checked >= 4,
+        "the channels of the last run are ticked ({checked})"
+    );
+    click_and_load(
+        &client,
+        "form[action='/builds/tool-room-heater/runs'] button[type=submit]",
+    )
+    .await;
+    let run_path = client.current_url().await.unwrap().path().to_string();
+
+    fill(&client, "#v-supply_current", "3.1").await;
+    click_and_load(&client, "#entry-supply_current button.add").await;
+    fill(&client, "#v-frequency", "104.2k").await;
+    click_and_load(&client, "#entry-frequency button.add").await;
+    // A reading written down earlier goes in with its time.
+    fill(&client, "#v-supply_voltage", "35.8").await;
+    click(&client, "#entry-supply_voltage details summary").await;
+    fill(&client, "#entry-supply_voltage input[name=time]", "0:05").await;
+    click_and_load(&client, "#entry-supply_voltage button.add").await;
+
+    client.refresh().await.unwrap();
+    let values = texts(&client, "table.readings span.value").await;
+    assert_eq!(values.len(), 3, "a reload loses nothing: {values:?}");
+    assert!(values.contains(&"104 kHz".to_string()), "{values:?}");
+    assert!(
+        horizontal_overflow_px(&client).await <= 0,
+        "the open run fits the phone"
+    );
+    screenshot(&client, "open-run-phone").await;
+
+    client
+        .find(Locator::Css("select[name=outcome]"))
+        .await
+        .unwrap()
+        .select_by_value("stopped")
+        .await
+        .unwrap();
+    fill(
+        &client,
+        "textarea[name=note]",
+        "checking the new thermocouples",
+    )
+    .await;
+    click_and_load(&client, "#finish button[type=submit]").await;
+    assert_eq!(client.current_url().await.unwrap().path(), run_path);
+    let outcome = texts(&client, "#outcome").await.join(" ");
+    assert!(outcome.contains("Stopped early"), "{outcome}");
+    assert!(
+        !texts(&client, "#operating dd").await.is_empty(),
+        "the analysis shows the operating point"
+    );
+    assert_eq!(
+        client
+            .find_all(Locator::Css("form.entry"))
+            .await
+            .unwrap()
+            .len(),
+        0,
+        "no more entry once finished"
+    );
+    screenshot(&client, "finished-run-phone").await;
+    client.close().await.unwrap();
+}

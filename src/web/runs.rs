@@ -408,7 +408,6 @@ struct EntryField {
     channel: String,
     title: String,
     unit: &'static str,
-    example: &'static str,
     last: String,
 }
 
@@ -418,15 +417,6 @@ struct ReadingLine {
     title: String,
     value: String,
     corrected_from: Vec<String>,
-}
-
-fn example_for(channel: Channel) -> &'static str {
-    match channel.quantity() {
-        Quantity::Voltage => "24",
-        Quantity::Current => "8.5",
-        Quantity::Frequency => "152k",
-        Quantity::Temperature => "41.5",
-    }
 }
 
 fn unit_for(quantity: Quantity) -> Unit {
@@ -508,7 +498,6 @@ async fn show(
             channel: channel.to_string(),
             title: channel.title(),
             unit: channel.quantity().unit(),
-            example: example_for(channel),
             last: current
                 .iter()
                 .rev()
