@@ -6,6 +6,7 @@
 //! squares and only τ is searched, on ln τ over span/50 … 50·span: a coarse grid first (the
 //! residual can have more than one dip on noisy data), then a golden-section refinement.
 
+use crate::physics::thermal;
 use serde::{Serialize, Serializer};
 
 /// A fit from fewer readings than this is shown but not trusted: three readings determine the
@@ -129,22 +130,17 @@ impl Serialize for ThermalFit {
 /// First-order step response T(Δt) = T_final − (T_final − T_start)·e^(−Δt/τ)
 /// (REFERENCE §8, lumped capacitance; Incropera & DeWitt).
 pub fn first_order_temperature_c(t_start_c: f64, t_final_c: f64, tau_s: f64, dt_s: f64) -> f64 {
-    t_final_c - (t_final_c - t_start_c) * (-dt_s / tau_s).exp()
+    thermal::first_order_temperature_c(t_start_c, t_final_c - t_start_c, tau_s, dt_s)
 }
 
 /// Time from the start of a first-order curve to a limit, t = −τ·ln(1 − (T_lim − T_start)/ΔT)
 /// (REFERENCE §8). Zero when the curve starts at or above the limit; `None` when the limit is not
 /// strictly between T_start and T_final (the curve never gets there, or it cools).
 pub fn time_to_limit_s(t_start_c: f64, t_final_c: f64, tau_s: f64, limit_c: f64) -> Option<f64> {
-    if t_start_c >= limit_c {
-        return Some(0.0);
+    if tau_s <= 0.0 {
+        return (t_start_c >= limit_c).then_some(0.0);
     }
-    let reaches = t_final_c > limit_c && tau_s > 0.0;
-    if !reaches {
-        return None;
-    }
-    let fraction = (limit_c - t_start_c) / (t_final_c - t_start_c);
-    Some(-tau_s * (1.0 - fraction).ln())
+    thermal::time_to_limit_s(t_start_c, t_final_c - t_start_c, tau_s, limit_c)
 }
 
 /// The linear least-squares part of the fit for one τ.

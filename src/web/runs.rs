@@ -393,6 +393,9 @@ struct ShowPage {
     limit: String,
     entries: Vec<EntryField>,
     readings: Vec<ReadingLine>,
+    /// On an open run the newest readings; the rest fold away (all of them once it is finished).
+    shown_readings: Vec<ReadingLine>,
+    folded_readings: Vec<ReadingLine>,
     history_count: usize,
     failed_part_choices: Vec<(String, String)>,
     outcome_title: String,
@@ -411,6 +414,7 @@ struct EntryField {
     last: String,
 }
 
+#[derive(Clone)]
 struct ReadingLine {
     id: i64,
     time: String,
@@ -490,6 +494,13 @@ async fn show(
         })
         .collect();
     readings.reverse();
+    let split = if run.is_open() {
+        RECENT_READINGS.min(readings.len())
+    } else {
+        0
+    };
+    let shown_readings = readings[..split].to_vec();
+    let folded_readings = readings[split..].to_vec();
     let entries = run
         .channels()
         .iter()
@@ -532,6 +543,8 @@ async fn show(
         entries,
         history_count: history.len(),
         readings,
+        shown_readings,
+        folded_readings,
         failed_part_choices,
         outcome_title: run
             .outcome
