@@ -161,92 +161,107 @@ fn short_title(name: &str) -> String {
         .to_string()
 }
 
-/// Temperatures against time with each fit (dashed), each limit and each predicted crossing.
-fn temperature_chart(
-    run_id: i64,
-    analysis: &RunAnalysis,
-    readings: &[Reading],
-) -> Option<ChartView> {
-    if analysis.thermal.is_empty() {
-        return None;
-    }
-    let mut series = Vec::new();
-    let mut thresholds: Vec<Threshold> = Vec::new();
-    let mut x_markers = Vec::new();
-    for (i, t) in analysis.thermal.iter().enumerate() {
-        let Ok(channel) = t.channel.parse::<Channel>() else {
-            continue;
-        };
-        let points = samples(readings, channel);
-        let label = short_title(&t.channel);
-        if let Some(fit) = t.fit.as_ref().filter(|f| f.is_trusted()) {
-            let end = points
-                .last()
-                .map_or(fit.t0_s, |p| p.0)
-                .max(t.time_to_limit_s.map_or(0.0, |s| fit.t0_s + s));
-            let curve = (0..=60)
-                .map(|k| {
-                    let time = fit.t0_s + (end - fit.t0_s) * f64::from(k) / 60.0;
-                    (
-                        time,
-                        first_order_temperature_c(
-                            fit.t_start_c,
-                            fit.t_final_c,
-                            fit.tau_s,
-                            time - fit.t0_s,
-                        ),
-                    )
-                })
-                .collect();
-            series.push(Series {
-                label: format!("{label} fit"),
-                points: curve,
-                style: SeriesStyle::Dashed,
-                marker: MARKERS[i % 6],
-                colour_index: i,
-            });
-            if let Some(s) = t.time_to_limit_s {
-                x_markers.push(XMarker {
-                    label: format!("{label} limit at {}", minutes_seconds(fit.t0_s + s)),
-                    x: fit.t0_s + s,
+/// Temperatures against time, one chart per part role so that a bank of capacitors stays
+/// readable on a phone: each unit's readings, the fitted curve of the hottest unit (dashed), the
+/// role's limit, and the predicted crossing when the fit says there is one.
+fn temperature_charts(run_id: i64, analysis: &RunAnalysis, readings: &[Reading]) -> Vec<ChartView> {
+    let mut roles: Vec<crate::parts::Role> = analysis.thermal.iter().map(|t| t.part).collect();
+    roles.dedup();
+    roles.sort();
+    roles.dedup();
+    roles
+        .into_iter()
+        .filter_map(|role| {
+            let units: Vec<&ThermalResult> =
+                analysis.thermal.iter().filter(|t| t.part == role).collect();
+            let hottest = units
+                .iter()
+                .copied()
+                .max_by(|a, b| a.t_max_c.total_cmp(&b.t_max_c))?;
+            let mut series = Vec::new();
+            let mut x_markers = Vec::new();
+            for (i, t) in units.iter().enumerate() {
+                let Ok(channel) = t.channel.parse::<Channel>() else {
+                    continue;
+                };
+                series.push(Series {
+                    label: short_title(&t.channel),
+                    points: samples(readings, channel),
+                    style: SeriesStyle::LineAndPoints,
+                    marker: MARKERS[i % MARKERS.len()],
+                    colour_index: i,
                 });
             }
-        }
-        series.push(Series {
-            label,
-            points,
-            style: SeriesStyle::LineAndPoints,
-            marker: MARKERS[i % 6],
-            colour_index: i,
-        });
-        if let Some(limit) = t.limit_c
-            && !thresholds.iter().any(|h| (h.y - limit).abs() < 0.05)
-        {
-            let whose = short_title(&t.channel);
-            thresholds.push(Threshold {
-                label: format!("{whose} limit {limit:.0} °C"),
-                y: limit,
-            });
-        }
-    }
-    let chart = LineChart {
-        title: "Part temperatures".into(),
-        x_label: "time since start (m:ss)".into(),
-        y_label: "temperature (°C)".into(),
-        series,
-        thresholds,
-        x_markers,
-        x_format: AxisFormat::MinutesSeconds,
-        y_min: None,
-        y_max: None,
-        id: format!("run-{run_id}-temperatures"),
-    };
-    Some(ChartView {
-        id: chart.id.clone(),
-        title: chart.title.clone(),
-        svg: render_line_chart(&chart),
-        table: chart_table_rows(&chart),
-    })
+            if let Some(fit) = hottest.fit.as_ref().filter(|f| f.is_trusted()) {
+                let last = series
+                    .iter()
+                    .flat_map(|s| s.points.last())
+                    .map(|p| p.0)
+                    .fold(fit.t0_s, f64::max);
+                let end = last.max(hottest.time_to_limit_s.map_or(0.0, |s| fit.t0_s + s));
+                let curve = (0..=60)
+                    .map(|k| {
+                        let time = fit.t0_s + (end - fit.t0_s) * f64::from(k) / 60.0;
+                        (
+                            time,
+                            first_order_temperature_c(
+                                fit.t_start_c,
+                                fit.t_final_c,
+                                fit.tau_s,
+                                time - fit.t0_s,
+                            ),
+                        )
+                    })
+                    .collect();
+                let label = format!("{} fit", short_title(&hottest.channel));
+                series.push(Series {
+                    label,
+                    points: curve,
+                    style: SeriesStyle::Dashed,
+                    marker: Marker::Plus,
+                    colour_index: units.len(),
+                });
+                if let Some(s) = hottest.time_to_limit_s {
+                    x_markers.push(XMarker {
+                        label: format!("limit at {}", minutes_seconds(fit.t0_s + s)),
+                        x: fit.t0_s + s,
+                    });
+                }
+            }
+            let thresholds = hottest
+                .limit_c
+                .map(|limit| {
+                    vec![Threshold {
+                        label: format!("limit {limit:.0} °C"),
+                        y: limit,
+                    }]
+                })
+                .unwrap_or_default();
+            let title = if units.len() > 1 {
+                format!("{} temperatures", role.title())
+            } else {
+                format!("{} temperature", role.title())
+            };
+            let chart = LineChart {
+                title,
+                x_label: "time since start (m:ss)".into(),
+                y_label: "temperature (°C)".into(),
+                series,
+                thresholds,
+                x_markers,
+                x_format: AxisFormat::MinutesSeconds,
+                y_min: None,
+                y_max: None,
+                id: format!("run-{run_id}-temp-{}", role.key()).replace('_', "-"),
+            };
+            Some(ChartView {
+                id: chart.id.clone(),
+                title: chart.title.clone(),
+                svg: render_line_chart(&chart),
+                table: chart_table_rows(&chart),
+            })
+        })
+        .collect()
 }
 
 fn channel_chart(
@@ -362,7 +377,7 @@ impl AnalysisView {
             None => Vec::new(),
         };
         let mut charts = Vec::new();
-        charts.extend(temperature_chart(run_id, analysis, readings));
+        charts.extend(temperature_charts(run_id, analysis, readings));
         charts.extend(channel_chart(
             run_id,
             readings,
