@@ -101,6 +101,20 @@ impl Store {
         notes: &str,
         created_by: Option<UserId>,
     ) -> StoreResult<Revision> {
+        self.create_revision_at(build_id, parent, parts, notes, created_by, now_unix_s())
+            .await
+    }
+
+    /// As `create_revision`, dated `created_at` (the demo's history, imports of old notes).
+    pub async fn create_revision_at(
+        &self,
+        build_id: BuildId,
+        parent: Option<RevisionId>,
+        parts: &Parts,
+        notes: &str,
+        created_by: Option<UserId>,
+        created_at: i64,
+    ) -> StoreResult<Revision> {
         let rows = part_rows(parts)?;
         let mut tx = self.begin_write().await?;
         let number: i64 = sqlx::query_scalar(
@@ -109,7 +123,7 @@ impl Store {
         .bind(build_id)
         .fetch_one(&mut *tx)
         .await?;
-        let now = now_unix_s();
+        let now = created_at;
         let id: RevisionId = sqlx::query_scalar(
             "INSERT INTO revisions (build_id, number, parent_id, notes, created_by, created_at)
              VALUES (?, ?, ?, ?, ?, ?) RETURNING id",
