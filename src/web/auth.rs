@@ -35,10 +35,17 @@ struct NextQuery {
     next: Option<String>,
 }
 
-/// Only local paths: `next` must not send a user to another site after signing in.
+/// Only local paths: `next` must not send a user to another site after signing in. Browsers
+/// drop tabs and line breaks from an address (so `/<tab>/evil` reads `//evil`) and take `\` for
+/// `/`, so a path with either is refused too.
 fn safe_next(next: Option<&str>) -> String {
     match next {
-        Some(path) if path.starts_with('/') && !path.starts_with("//") && !path.contains('\\') => {
+        Some(path)
+            if path.starts_with('/')
+                && !path.starts_with("//")
+                && !path.contains('\\')
+                && !path.chars().any(char::is_control) =>
+        {
             path.to_string()
         }
         _ => "/".to_string(),
@@ -189,6 +196,8 @@ mod tests {
         assert_eq!(safe_next(Some("//evil.example")), "/");
         assert_eq!(safe_next(Some("https://evil.example")), "/");
         assert_eq!(safe_next(Some("/\\evil.example")), "/");
+        assert_eq!(safe_next(Some("/\t/evil.example")), "/");
+        assert_eq!(safe_next(Some("/\r\n/evil.example")), "/");
         assert_eq!(safe_next(None), "/");
     }
 
