@@ -10,8 +10,8 @@ mod access;
 mod common;
 
 use access::{PRINCIPALS, Principal, ShareKind, World, fill, is_share_path, payload, request};
-use axum::http::Method;
-use common::Page;
+use axum::http::{Method, StatusCode, header};
+use common::{ORIGIN, Page};
 use eddybench::store::TableFingerprint;
 use eddybench::web::{Access, RouteInfo, route_table};
 
@@ -37,7 +37,7 @@ fn level(principal: Principal, route: &RouteInfo) -> Access {
             Access::Share
         }
         Principal::Share(_) => Access::Public,
-        Principal::Viewer => Access::Viewer,
+        Principal::Viewer | Principal::ViewerToken => Access::Viewer,
         Principal::Editor | Principal::Token => Access::Editor,
         Principal::Admin => Access::Admin,
     }
@@ -231,8 +231,8 @@ fn print_matrix(rows: &[Row]) {
     }
     println!(
         "\n>L: a redirect to the sign-in page. share = a live link of the build; sh-rev, sh-exp: \
-         revoked and expired links; sh-oth: a link of the other build; token, tk-rev: an \
-         editor's API token, live and revoked."
+         revoked and expired links; sh-oth: a link of the other build; tok-v: a viewer's API \
+         token; token, tk-rev: an editor's API token, live and revoked."
     );
 }
 
@@ -256,6 +256,68 @@ async fn every_route_refuses_every_visitor_below_its_access() {
         rows.push(row);
     }
     print_matrix(&rows);
+    assert!(
+        failures.is_empty(),
+        "{} problems:\n{}",
+        failures.len(),
+        failures.join("\n")
+    );
+}
+
+/// A page of another site, or a stale one, posting with the editor's cookie: every write
+/// refuses it before its handler runs (400) and nothing is saved, whoever the route is for.
+#[tokio::test]
+async fn every_write_refuses_a_forged_browser_request() {
+    let world = World::new().await;
+    let mut failures = Vec::new();
+    let mut before = world.fingerprints().await;
+    let writes = route_table()
+        .into_iter()
+        .filter(|r| r.method != Method::GET);
+    for route in writes {
+        let address = fill(route.path, &world, Principal::Editor).unwrap();
+        let body = payload(&route).unwrap();
+        for (what, origin, token) in [
+            (
+                "from another site",
+                Some("http://evil.test"),
+                Some(&world.editor.csrf),
+            ),
+            ("without the form token", Some(ORIGIN), None),
+            (
+                "with another session's token",
+                Some(ORIGIN),
+                Some(&world.viewer.csrf),
+            ),
+            (
+                "with neither Origin nor Referer",
+                None,
+                Some(&world.editor.csrf),
+            ),
+        ] {
+            // The anonymous request carries no credentials; add the browser's.
+            let mut forged = request(&route, &address, &body, &world, Principal::Anonymous);
+            let headers = forged.headers_mut();
+            headers.insert(header::COOKIE, world.editor.cookie.parse().unwrap());
+            if let Some(origin) = origin {
+                headers.insert(header::ORIGIN, origin.parse().unwrap());
+            }
+            if let Some(token) = token {
+                headers.insert("x-csrf-token", token.parse().unwrap());
+            }
+            let page = world.app.send(forged).await;
+            let after = world.fingerprints().await;
+            let who = format!("{} {address} {what}", route.method);
+            if page.status != StatusCode::BAD_REQUEST {
+                failures.push(format!("{who}: {} instead of 400", page.status));
+            }
+            let changes = changed(&before, &after);
+            if !changes.is_empty() {
+                failures.push(format!("{who}: changed {}", changes.join(", ")));
+            }
+            before = after;
+        }
+    }
     assert!(
         failures.is_empty(),
         "{} problems:\n{}",
@@ -298,4 +360,33 @@ async fn a_route_whose_parameters_have_no_fixture_fails_the_walk() {
         }
         payload(&route).unwrap();
     }
+}
+/// The snapshot the walk compares sees a change of one value, not only of a row count.
+#[tokio::test]
+async fn the_snapshot_sees_an_updated_value() {
+    let world = World::new().await;
+    let before = world.fingerprints().await;
+    assert_eq!(
+        before,
+        world.fingerprints().await,
+        "reading changes nothing"
+    );
+    let finish = eddybench::store::RunFinish {
+        by: None,
+        outcome: eddybench::store::Outcome::Completed,
+        failed_part: None,
+        note: "",
+        finished_at: None,
+    };
+    world
+        .app
+        .store
+        .finish_run(eddybench::store::RunId(world.run_id), &finish)
+        .await
+        .unwrap();
+    let changes = changed(&before, &world.fingerprints().await);
+    assert!(
+        changes.iter().any(|c| c.starts_with("runs (")),
+        "{changes:?}"
+    );
 }

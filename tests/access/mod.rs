@@ -32,6 +32,8 @@ pub enum Principal {
     Viewer,
     Editor,
     Admin,
+    /// An API token of a viewer.
+    ViewerToken,
     /// An API token of an editor.
     Token,
     /// An editor's API token that has been revoked.
@@ -40,13 +42,14 @@ pub enum Principal {
 
 /// The columns of the matrix, least privileged first: the walk sends each route's requests in
 /// this order, so that the refusals come before any write succeeds.
-pub const PRINCIPALS: [(Principal, &str); 10] = [
+pub const PRINCIPALS: [(Principal, &str); 11] = [
     (Principal::Anonymous, "anon"),
     (Principal::Share(ShareKind::Valid), "share"),
     (Principal::Share(ShareKind::Revoked), "sh-rev"),
     (Principal::Share(ShareKind::Expired), "sh-exp"),
     (Principal::Share(ShareKind::OtherBuild), "sh-oth"),
     (Principal::Viewer, "viewer"),
+    (Principal::ViewerToken, "tok-v"),
     (Principal::Editor, "editor"),
     (Principal::Admin, "admin"),
     (Principal::Token, "token"),
@@ -73,6 +76,7 @@ pub struct World {
     pub viewer: Session,
     pub editor: Session,
     pub admin: Session,
+    pub viewer_token: String,
     pub token: String,
     pub revoked_token: String,
 }
@@ -213,6 +217,18 @@ impl World {
             .await
             .unwrap()
             .token;
+        let viewer_user = app
+            .store
+            .user_by_name(&login.viewer_name)
+            .await
+            .unwrap()
+            .unwrap();
+        let viewer_token = app
+            .store
+            .create_token(viewer_user.id, "matrix viewer")
+            .await
+            .unwrap()
+            .token;
         let revoked = app
             .store
             .create_token(editor_user.id, "revoked")
@@ -283,6 +299,7 @@ impl World {
             editor,
             admin,
             token,
+            viewer_token,
             revoked_token: revoked.token,
             app,
         }
@@ -453,6 +470,7 @@ pub fn request(
             .header("x-csrf-token", &session.csrf);
     }
     let bearer = match principal {
+        Principal::ViewerToken => Some(&world.viewer_token),
         Principal::Token => Some(&world.token),
         Principal::RevokedToken => Some(&world.revoked_token),
         _ => None,
