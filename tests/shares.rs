@@ -316,6 +316,37 @@ async fn assert_read_only_share_page(demo: &Demo, path: &str) -> Vec<String> {
         .collect()
 }
 
+/// Checks each page, then every page they link to under the link (which must open for the
+/// link and be read-only as well); returns the linked addresses.
+async fn assert_pages_and_their_links(demo: &Demo, pages: &[String]) -> Vec<String> {
+    let mut linked = Vec::new();
+    for path in pages {
+        linked.extend(assert_read_only_share_page(demo, path).await);
+    }
+    linked.sort();
+    linked.dedup();
+    for path in linked.iter().filter(|p| !pages.contains(p)) {
+        let page = demo.app.get(path, None).await;
+        assert_eq!(
+            page.status,
+            StatusCode::OK,
+            "{path}, linked from a page of the link"
+        );
+        let is_html = header_of(&page, "content-type").starts_with("text/html");
+        if is_html {
+            assert_read_only_share_page(demo, path).await;
+        } else {
+            assert_eq!(header_of(&page, "referrer-policy"), "no-referrer", "{path}");
+            assert_eq!(
+                header_of(&page, "cache-control"),
+                "private, no-store",
+                "{path}"
+            );
+        }
+    }
+    linked
+}
+
 #[tokio::test]
 async fn the_build_page_makes_a_link_and_shows_it_only_once() {
     let demo = Demo::new().await;
@@ -366,28 +397,7 @@ async fn a_link_reads_every_page_of_its_build_and_changes_nothing() {
         format!("{base}/report"),
     ];
     let before = demo.fingerprints().await;
-    let mut linked = Vec::new();
-    for path in &pages {
-        linked.extend(assert_read_only_share_page(&demo, path).await);
-    }
-    // Every page the link's pages point to opens for the link too, and is read-only as well.
-    linked.sort();
-    linked.dedup();
-    for path in linked.iter().filter(|p| !pages.contains(p)) {
-        let page = demo.app.get(path, None).await;
-        assert_eq!(page.status, StatusCode::OK, "{path}");
-        let is_html = header_of(&page, "content-type").starts_with("text/html");
-        if is_html {
-            assert_read_only_share_page(&demo, path).await;
-        } else {
-            assert_eq!(header_of(&page, "referrer-policy"), "no-referrer", "{path}");
-            assert_eq!(
-                header_of(&page, "cache-control"),
-                "private, no-store",
-                "{path}"
-            );
-        }
-    }
+    let linked = assert_pages_and_their_links(&demo, &pages).await;
     assert!(
         linked.iter().any(|p| p.contains("/attachments/")),
         "the run's picture is served under the link: {linked:?}"
@@ -422,9 +432,15 @@ async fn a_link_to_one_revision_opens_only_that_revision() {
     let (_, base) = demo.share_by_form("r2 only", "7", "r2").await;
     let own = demo.run_of(2).id.0;
     let other = demo.run_of(1).id.0;
-    assert_read_only_share_page(&demo, &base).await;
-    assert_read_only_share_page(&demo, &format!("{base}/runs/{own}")).await;
-    assert_read_only_share_page(&demo, &format!("{base}/revisions/r2")).await;
+    assert_pages_and_their_links(
+        &demo,
+        &[
+            base.clone(),
+            format!("{base}/runs/{own}"),
+            format!("{base}/revisions/r2"),
+        ],
+    )
+    .await;
     let overview = demo.app.get(&base, None).await;
     let run_links: Vec<String> = addresses(&overview)
         .into_iter()
