@@ -4,6 +4,7 @@ mod attachments;
 mod builds;
 mod digests;
 mod export;
+mod inspect;
 mod readings;
 mod revisions;
 mod runs;
@@ -24,6 +25,7 @@ pub use attachments::{
 };
 pub use builds::{Build, BuildSummary, NewBuild};
 pub use export::ImportError;
+pub use inspect::TableFingerprint;
 pub use readings::{NewReading, ReadingRow, ReadingsImport};
 pub use revisions::{Revision, revision_number};
 pub use runs::{NewRun, Outcome, Run, RunFinish};

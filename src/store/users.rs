@@ -147,18 +147,40 @@ impl Store {
         Ok(())
     }
 
-    /// Counts a failed sign-in under the name that was typed.
-    pub async fn record_login_failure(&self, name: &str) -> StoreResult<()> {
+    /// Takes one sign-in attempt under a name, or refuses it with the seconds still to wait
+    /// after the failures so far (`wait_s` of their count, from the last one). A taken attempt
+    /// counts as a failure at once, and `clear_login_failures` forgets it when the password
+    /// matches. Reading and counting in one write transaction makes attempts sent at the same
+    /// moment take their turns, so they cannot all pass the same check.
+    pub async fn claim_login_attempt(
+        &self,
+        name: &str,
+        wait_s: impl Fn(i64) -> i64,
+    ) -> StoreResult<Option<i64>> {
+        let mut tx = self.begin_write().await?;
+        let now = now_unix_s();
+        let so_far: Option<(i64, i64)> =
+            sqlx::query_as("SELECT failures, last_failed_at FROM login_failures WHERE name = ?")
+                .bind(name)
+                .fetch_optional(&mut *tx)
+                .await?;
+        if let Some((failures, last_failed_at)) = so_far {
+            let wait = last_failed_at + wait_s(failures) - now;
+            if wait > 0 {
+                return Ok(Some(wait));
+            }
+        }
         sqlx::query(
             "INSERT INTO login_failures (name, failures, last_failed_at) VALUES (?, 1, ?)
              ON CONFLICT (name) DO UPDATE
              SET failures = failures + 1, last_failed_at = excluded.last_failed_at",
         )
         .bind(name)
-        .bind(now_unix_s())
-        .execute(&self.pool)
+        .bind(now)
+        .execute(&mut *tx)
         .await?;
-        Ok(())
+        tx.commit().await?;
+        Ok(None)
     }
 
     /// Failures so far under a name and the time of the last one.

@@ -87,12 +87,21 @@ pub struct AttachmentView {
 
 /// The gallery of a run, for the run page.
 /// The pictures of a run, linked under `base` (`/builds/{slug}` or a share's `/s/{token}`).
-pub async fn views_of_run(state: &AppState, base: &str, run: &Run) -> Result<Vec<AttachmentView>> {
+/// Share pages name no accounts, so they pass `show_uploader: false`.
+pub async fn views_of_run(
+    state: &AppState,
+    base: &str,
+    run: &Run,
+    show_uploader: bool,
+) -> Result<Vec<AttachmentView>> {
     let attachments = state.store.attachments_of_run(run.id).await?;
-    Ok(attachments.iter().map(|a| view(base, run, a)).collect())
+    Ok(attachments
+        .iter()
+        .map(|a| view(base, run, a, show_uploader))
+        .collect())
 }
 
-fn view(base: &str, run: &Run, a: &Attachment) -> AttachmentView {
+fn view(base: &str, run: &Run, a: &Attachment, show_uploader: bool) -> AttachmentView {
     let kind = AttachmentKind::parse(&a.kind).unwrap_or(AttachmentKind::Other);
     let href = format!("{base}/runs/{}/attachments/{}", run.id, a.id);
     let shown = match (a.width_px, a.height_px) {
@@ -103,7 +112,7 @@ fn view(base: &str, run: &Run, a: &Attachment) -> AttachmentView {
         )),
         _ => None,
     };
-    let uploaded = match &a.uploader {
+    let uploaded = match a.uploader.as_ref().filter(|_| show_uploader) {
         Some(name) => format!("{} by {name}", date_time(a.uploaded_at)),
         None => date_time(a.uploaded_at),
     };

@@ -13,7 +13,6 @@ use super::routes::{Access, Routes};
 use super::session::{PRE_SESSION_CSRF_COOKIE, SESSION_COOKIE, Visitor, cookie, set_cookie};
 use super::{AppError, AppState, Result};
 use crate::secrets::{decoy_hash, random_token, token_hash, verify_password};
-use crate::store::now_unix_s;
 
 pub fn router() -> Routes {
     Routes::new()
@@ -36,10 +35,17 @@ struct NextQuery {
     next: Option<String>,
 }
 
-/// Only local paths: `next` must not send a user to another site after signing in.
+/// Only local paths: `next` must not send a user to another site after signing in. Browsers
+/// drop tabs and line breaks from an address (so `/<tab>/evil` reads `//evil`) and take `\` for
+/// `/`, so a path with either is refused too.
 fn safe_next(next: Option<&str>) -> String {
     match next {
-        Some(path) if path.starts_with('/') && !path.starts_with("//") && !path.contains('\\') => {
+        Some(path)
+            if path.starts_with('/')
+                && !path.starts_with("//")
+                && !path.contains('\\')
+                && !path.chars().any(char::is_control) =>
+        {
             path.to_string()
         }
         _ => "/".to_string(),
@@ -121,13 +127,16 @@ async fn login(
         *response.status_mut() = axum::http::StatusCode::UNAUTHORIZED;
         response
     };
-    if let Some((failures, last_failed_at)) = state.store.login_failures(&name).await? {
-        let wait = last_failed_at + wait_after_failures_s(failures) - now_unix_s();
-        if wait > 0 {
-            return Ok(again(&format!(
-                "Too many failed sign-ins for this name. Wait {wait} s and try again."
-            )));
-        }
+    // The attempt counts as a failure before the password is checked, so that guesses sent
+    // at once cannot all pass the wait.
+    if let Some(wait) = state
+        .store
+        .claim_login_attempt(&name, wait_after_failures_s)
+        .await?
+    {
+        return Ok(again(&format!(
+            "Too many failed sign-ins for this name. Wait {wait} s and try again."
+        )));
     }
     let user = state.store.user_by_name(&name).await?;
     let stored_hash = user
@@ -139,10 +148,7 @@ async fn login(
         .map_err(|e| AppError::Internal(e.into()))?;
     let user = match (user, verified) {
         (Some(user), true) => user,
-        _ => {
-            state.store.record_login_failure(&name).await?;
-            return Ok(again("That name and password do not match an account."));
-        }
+        _ => return Ok(again("That name and password do not match an account.")),
     };
     state.store.clear_login_failures(&name).await?;
     // A fresh session id on every sign-in: an id planted before sign-in is worth nothing.
@@ -190,6 +196,8 @@ mod tests {
         assert_eq!(safe_next(Some("//evil.example")), "/");
         assert_eq!(safe_next(Some("https://evil.example")), "/");
         assert_eq!(safe_next(Some("/\\evil.example")), "/");
+        assert_eq!(safe_next(Some("/\t/evil.example")), "/");
+        assert_eq!(safe_next(Some("/\r\n/evil.example")), "/");
         assert_eq!(safe_next(None), "/");
     }
 

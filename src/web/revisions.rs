@@ -139,8 +139,10 @@ async fn show(
     Ok(ShowPage {
         chrome: reader.chrome(format!("{} {}", build.name, revision.label()), &build),
         label: revision.label(),
+        // A link to one revision does not open its parent: no link to a page it cannot show.
         parent: revision
             .parent_number
+            .filter(|&n| reader.check_revision(n).is_ok())
             .map(|n| format!("r{n}"))
             .unwrap_or_default(),
         created: date_time(revision.created_at),

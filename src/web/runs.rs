@@ -560,6 +560,7 @@ async fn show(
             &state,
             &reader.chrome("", &build).base,
             &run,
+            !reader.is_share(),
         )
         .await?,
         build,
