@@ -243,7 +243,7 @@ async fn a_run_starts_and_takes_readings_with_units() {
     let page = app.get(&run_path, Some(&session)).await;
     assert_eq!(page.count("form.entry"), 3, "one entry per channel in use");
     for (channel, value, time) in [
-        ("frequency", "152k", "0:30"),
+        ("frequency", "152", "0:30"), // a bare number in the frequency field is kHz
         ("supply_current", "500 mA", "45 s"),
         ("temp.tank_capacitor", "41.5", ""),
     ] {

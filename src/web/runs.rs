@@ -423,6 +423,26 @@ struct ReadingLine {
     corrected_from: Vec<String>,
 }
 
+/// What a bare number in an entry field means: the frequency field takes kHz (the numeric
+/// keyboard of a phone has no `k`, and no driver of this kind runs below a few kHz); every other
+/// field its SI unit. Typed units and prefixes always win: `152k`, `152000 Hz`.
+fn parse_entry(channel: Channel, text: &str) -> Result<f64, crate::units::UnitError> {
+    let bare = text.trim().replace(',', ".").parse::<f64>().is_ok();
+    let value = parse_value(text, unit_for(channel.quantity()))?;
+    Ok(if bare && channel == Channel::Frequency {
+        value * 1e3
+    } else {
+        value
+    })
+}
+
+fn entry_unit(channel: Channel) -> &'static str {
+    match channel {
+        Channel::Frequency => "kHz",
+        other => other.quantity().unit(),
+    }
+}
+
 fn unit_for(quantity: Quantity) -> Unit {
     match quantity {
         Quantity::Voltage => Unit::Volt,
@@ -508,7 +528,7 @@ async fn show(
         .map(|channel| EntryField {
             channel: channel.to_string(),
             title: channel.title(),
-            unit: channel.quantity().unit(),
+            unit: entry_unit(channel),
             last: current
                 .iter()
                 .rev()
@@ -603,7 +623,7 @@ async fn add_reading(
         Ok(c) => c,
         Err(e) => return Ok(back_with_error(&slug, id, &form.channel, &e.to_string())),
     };
-    let value = match parse_value(&form.value, unit_for(channel.quantity())) {
+    let value = match parse_entry(channel, &form.value) {
         Ok(v) => v,
         Err(e) => return Ok(back_with_error(&slug, id, &form.channel, &e.to_string())),
     };
@@ -664,7 +684,7 @@ async fn correct_reading(
         .find(|r| r.id.0 == reading)
         .ok_or(AppError::NotFound)?;
     let channel: Channel = old.channel.parse().map_err(|_| AppError::NotFound)?;
-    let value = match parse_value(&form.value, unit_for(channel.quantity())) {
+    let value = match parse_entry(channel, &form.value) {
         Ok(v) if (channel.plausible_range().0..=channel.plausible_range().1).contains(&v) => v,
         Ok(_) => {
             return Ok(back_with_error(
@@ -742,4 +762,30 @@ async fn finish(
         .await?;
     super::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}")).into_response())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_bare_frequency_is_khz_and_typed_units_win() {
+        for (text, hz) in [
+            ("152", 152e3),
+            ("152,5", 152.5e3),
+            ("152k", 152e3),
+            ("152000 Hz", 152e3),
+            ("0.15 MHz", 150e3),
+        ] {
+            let got = parse_entry(Channel::Frequency, text).unwrap();
+            assert!((got - hz).abs() < 1e-6, "{text}: {got}");
+        }
+        assert_eq!(
+            parse_entry(Channel::SupplyCurrent, "3").unwrap(),
+            3.0,
+            "other channels keep SI"
+        );
+        assert!(parse_entry(Channel::Frequency, "fast").is_err());
+        assert_eq!(entry_unit(Channel::Frequency), "kHz");
+    }
 }
