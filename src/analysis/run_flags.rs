@@ -97,11 +97,13 @@ pub fn no_oscillation_flag(readings: &[Reading]) -> Option<Flag> {
         .any(|r| r.channel == Channel::Frequency && r.value > 0.0);
     (max_current_a > DRAWING_CURRENT_A && !frequency_recorded).then(|| Flag {
         code: "no-oscillation",
-        severity: Severity::Failure,
+        // A warning, not a failure: a run logged without a frequency meter looks the same.
+        severity: Severity::Warning,
         part: None,
         message: format!(
             "The supply delivered up to {max_current_a:.2} A but no frequency was recorded: \
-             the driver may not be oscillating, with both switches conducting into the chokes."
+             the driver may not be oscillating, with both switches conducting into the chokes. \
+             One frequency reading settles it."
         ),
         source: "practice: a stalled cross-coupled driver shorts the supply through the chokes",
     })
@@ -114,7 +116,7 @@ fn title_of(result: &ThermalResult) -> String {
         .map_or_else(|_| result.channel.clone(), |c| c.title())
 }
 
-/// `cap-overtemp` for tank capacitors (failure at or above the limit, warning within 8 K) and
+/// `cap-overtemp` for tank capacitors (failure at or above the limit, warning within 10 K) and
 /// `part-overtemp` (failure) for other parts at or above theirs, from the measured maximum.
 pub fn overtemp_flags(thermal: &[ThermalResult]) -> Vec<Flag> {
     thermal
