@@ -21,6 +21,8 @@ mod readings_import;
 mod revisions;
 mod routes;
 mod run_analysis;
+mod run_entry;
+mod run_page;
 mod run_view;
 mod runs;
 mod security;

@@ -1,0 +1,246 @@
+//! Logging at the bench: a reading stamped with the time since the start, a correction that
+//! keeps the old value, and the end of the run.
+
+use axum::Form;
+use axum::extract::{Path, State};
+use axum::response::{IntoResponse, Redirect, Response};
+use serde::Deserialize;
+
+use super::session::Editor;
+use super::{AppError, AppState, Result};
+use crate::channel::{Channel, Quantity};
+use crate::store::{NewReading, Outcome, ReadingId, RunFinish, now_unix_s};
+use crate::units::{Unit, parse_elapsed_s, parse_value};
+
+use super::runs::{build_and_run, channels_of};
+
+/// What a bare number in an entry field means: the frequency field takes kHz (the numeric
+/// keyboard of a phone has no `k`, and no driver of this kind runs below a few kHz); every other
+/// field its SI unit. Typed units and prefixes always win: `152k`, `152000 Hz`.
+pub(super) fn parse_entry(channel: Channel, text: &str) -> Result<f64, crate::units::UnitError> {
+    let bare = text.trim().replace(',', ".").parse::<f64>().is_ok();
+    let value = parse_value(text, unit_for(channel.quantity()))?;
+    Ok(if bare && channel == Channel::Frequency {
+        value * 1e3
+    } else {
+        value
+    })
+}
+
+pub(super) fn entry_unit(channel: Channel) -> &'static str {
+    match channel {
+        Channel::Frequency => "kHz",
+        other => other.quantity().unit(),
+    }
+}
+
+pub(super) fn unit_for(quantity: Quantity) -> Unit {
+    match quantity {
+        Quantity::Voltage => Unit::Volt,
+        Quantity::Current => Unit::Ampere,
+        Quantity::Frequency => Unit::Hertz,
+        Quantity::Temperature => Unit::Celsius,
+    }
+}
+
+#[derive(Deserialize)]
+pub(super) struct ReadingForm {
+    channel: String,
+    value: String,
+    #[serde(default)]
+    time: String,
+}
+
+/// Back to the run page with a message beside the field (the page keeps no typed values, so
+/// the message says what was wrong and the user types again).
+fn back_with_error(slug: &str, id: i64, channel: &str, message: &str) -> Response {
+    let message = super::error::urlencode(message);
+    let channel = super::error::urlencode(channel);
+    Redirect::to(&format!(
+        "/builds/{slug}/runs/{id}?error={message}&channel={channel}#entry-{channel}"
+    ))
+    .into_response()
+}
+
+pub(super) async fn add_reading(
+    State(state): State<AppState>,
+    Editor(user): Editor,
+    Path((slug, id)): Path<(String, i64)>,
+    Form(form): Form<ReadingForm>,
+) -> Result<Response> {
+    let (_, run) = build_and_run(&state, &slug, id).await?;
+    if !run.is_open() {
+        return Err(AppError::Conflict(
+            "this run is finished; readings can no longer be added".into(),
+        ));
+    }
+    let channel: Channel = match form.channel.parse() {
+        Ok(c) => c,
+        Err(e) => return Ok(back_with_error(&slug, id, &form.channel, &e.to_string())),
+    };
+    let value = match parse_entry(channel, &form.value) {
+        Ok(v) => v,
+        Err(e) => return Ok(back_with_error(&slug, id, &form.channel, &e.to_string())),
+    };
+    let (low, high) = channel.plausible_range();
+    if !(low..=high).contains(&value) {
+        return Ok(back_with_error(
+            &slug,
+            id,
+            &form.channel,
+            &format!("{} is outside {low}..{high}", form.value.trim()),
+        ));
+    }
+    let t_s = if form.time.trim().is_empty() {
+        (now_unix_s() - run.started_at).max(0) as f64
+    } else {
+        match parse_elapsed_s(&form.time) {
+            Ok(t) => t,
+            Err(_) => {
+                return Ok(back_with_error(
+                    &slug,
+                    id,
+                    &form.channel,
+                    "time: use 2:30 or 150 s",
+                ));
+            }
+        }
+    };
+    state
+        .store
+        .add_readings(
+            run.id,
+            &[NewReading {
+                t_s,
+                channel: channel.to_string(),
+                value,
+            }],
+            Some(user.user_id),
+        )
+        .await?;
+    Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#entry-{}", channel)).into_response())
+}
+
+#[derive(Deserialize)]
+pub(super) struct CorrectionForm {
+    value: String,
+}
+
+pub(super) async fn correct_reading(
+    State(state): State<AppState>,
+    Editor(user): Editor,
+    Path((slug, id, reading)): Path<(String, i64, i64)>,
+    Form(form): Form<CorrectionForm>,
+) -> Result<Response> {
+    let (_, run) = build_and_run(&state, &slug, id).await?;
+    let history = state.store.reading_history(run.id).await?;
+    let old = history
+        .iter()
+        .find(|r| r.id.0 == reading)
+        .ok_or(AppError::NotFound)?;
+    let channel: Channel = old.channel.parse().map_err(|_| AppError::NotFound)?;
+    let value = match parse_entry(channel, &form.value) {
+        Ok(v) if (channel.plausible_range().0..=channel.plausible_range().1).contains(&v) => v,
+        Ok(_) => {
+            return Ok(back_with_error(
+                &slug,
+                id,
+                &old.channel,
+                "the corrected value is out of range",
+            ));
+        }
+        Err(e) => return Ok(back_with_error(&slug, id, &old.channel, &e.to_string())),
+    };
+    state
+        .store
+        .correct_reading(run.id, ReadingId(reading), value, Some(user.user_id))
+        .await?;
+    Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#readings")).into_response())
+}
+
+#[derive(Deserialize)]
+pub(super) struct FinishForm {
+    outcome: String,
+    #[serde(default)]
+    failed_part: String,
+    #[serde(default)]
+    note: String,
+}
+
+pub(super) async fn finish(
+    State(state): State<AppState>,
+    Editor(user): Editor,
+    Path((slug, id)): Path<(String, i64)>,
+    Form(form): Form<FinishForm>,
+) -> Result<Response> {
+    let (_, run) = build_and_run(&state, &slug, id).await?;
+    let outcome = Outcome::parse(&form.outcome)
+        .ok_or_else(|| AppError::invalid("outcome", "choose how the run ended"))?;
+    let revision = state.store.revision_by_id(run.revision_id).await?;
+    let failed_part = match (outcome, form.failed_part.trim()) {
+        (Outcome::PartFailed, "") => {
+            return Ok(back_with_error(
+                &slug,
+                id,
+                "finish",
+                "say which part failed",
+            ));
+        }
+        (Outcome::PartFailed, part) => {
+            let known = channels_of(&revision.parts)
+                .iter()
+                .any(|c| c.to_string() == format!("temp.{part}"));
+            if !known {
+                return Ok(back_with_error(
+                    &slug,
+                    id,
+                    "finish",
+                    "that part is not in this revision",
+                ));
+            }
+            Some(part.to_string())
+        }
+        _ => None,
+    };
+    state
+        .store
+        .finish_run(
+            run.id,
+            &RunFinish {
+                by: Some(user.user_id),
+                outcome,
+                failed_part: failed_part.as_deref(),
+                note: form.note.trim(),
+                finished_at: None,
+            },
+        )
+        .await?;
+    super::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
+    Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}")).into_response())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_bare_frequency_is_khz_and_typed_units_win() {
+        for (text, hz) in [
+            ("152", 152e3),
+            ("152,5", 152.5e3),
+            ("152k", 152e3),
+            ("152000 Hz", 152e3),
+            ("0.15 MHz", 150e3),
+        ] {
+            let got = parse_entry(Channel::Frequency, text).unwrap();
+            assert!((got - hz).abs() < 1e-6, "{text}: {got}");
+        }
+        assert_eq!(
+            parse_entry(Channel::SupplyCurrent, "3").unwrap(),
+            3.0,
+            "other channels keep SI"
+        );
+        assert!(parse_entry(Channel::Frequency, "fast").is_err());
+        assert_eq!(entry_unit(Channel::Frequency), "kHz");
+    }
+}
