@@ -124,3 +124,29 @@ async fn the_history_lists_changes_and_cannot_be_rewritten() {
     let seen = app.get("/builds/audit-rig", Some(&viewer)).await;
     assert_eq!(seen.count("#history li"), 1, "viewers read the history too");
 }
+
+#[tokio::test]
+async fn the_demo_story_reads_in_order() {
+    let (app, _session) = demo_app().await;
+    let build = app.store.build_by_slug("tool-room-heater").await.unwrap();
+    let revisions = app.store.revisions_of_build(build.id).await.unwrap();
+    let runs = app.store.runs_of_build(build.id, 100).await.unwrap();
+    for revision in &revisions {
+        let first_run = runs
+            .iter()
+            .filter(|r| r.revision_id == revision.id)
+            .map(|r| r.started_at)
+            .min()
+            .unwrap();
+        assert!(
+            revision.created_at < first_run,
+            "{} is dated before its first run",
+            revision.label()
+        );
+    }
+    assert!(
+        revisions
+            .windows(2)
+            .all(|w| w[0].created_at < w[1].created_at)
+    );
+}

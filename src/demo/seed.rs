@@ -64,13 +64,22 @@ pub async fn seed(store: &Store) -> anyhow::Result<DemoLogin> {
         let mut parent = None;
         let mut revision_ids = Vec::new();
         for revision in &demo.revisions {
+            // Dated a day before its first run, so the story reads in order.
+            let first_run_days = demo
+                .runs
+                .iter()
+                .filter(|r| r.revision_label == revision.label)
+                .map(|r| r.days_ago)
+                .fold(0.0, f64::max);
+            let created_at = now - ((first_run_days + 1.0) * 86_400.0) as i64;
             let stored = store
-                .create_revision(
+                .create_revision_at(
                     build.id,
                     parent,
                     &revision.parts,
                     &revision.notes,
                     editor_id,
+                    created_at,
                 )
                 .await?;
             parent = Some(stored.id);
