@@ -14,7 +14,7 @@ use crate::charts::{
 use crate::parts::Role;
 
 use super::run_view::ChartView;
-use super::view::minutes_seconds;
+use super::view::duration_text;
 
 /// One part's standing, in words and numbers.
 pub struct PartHealth {
@@ -115,8 +115,8 @@ pub fn build_health(revision: &str, digests: &[&RunDigest]) -> BuildHealth {
                 trend: trend_text,
                 running: format!(
                     "{} running, {} hot (above 80 % of the way to its limit)",
-                    minutes_seconds(worst_unit.running_time_s),
-                    minutes_seconds(units.iter().map(|u| u.hot_time_s).fold(0.0, f64::max))
+                    duration_text(worst_unit.running_time_s),
+                    duration_text(units.iter().map(|u| u.hot_time_s).fold(0.0, f64::max))
                 ),
                 details: std::iter::once(margin_text).chain(findings.into_iter().map(|(_, m)| m)).collect(),
             }

@@ -23,6 +23,17 @@ pub fn minutes_seconds(t_s: f64) -> String {
     }
 }
 
+/// A span of time in words, so it cannot be read as a clock time: `13 min 30 s`, `1 h 2 min`.
+pub fn duration_text(seconds: f64) -> String {
+    let total = seconds.max(0.0).round() as i64;
+    let (h, m, s) = (total / 3600, (total / 60) % 60, total % 60);
+    match (h, m) {
+        (0, 0) => format!("{s} s"),
+        (0, _) => format!("{m} min {s} s"),
+        _ => format!("{h} h {m} min"),
+    }
+}
+
 /// A value or an em dash when absent.
 pub fn maybe(value: Option<f64>, unit: Unit) -> String {
     value.map_or_else(|| "—".to_string(), |v| eng(v, unit).to_string())
@@ -78,5 +89,8 @@ mod tests {
         assert_eq!(minutes_seconds(150.0), "2:30");
         assert_eq!(minutes_seconds(3723.0), "1:02:03");
         assert_eq!(date_time(0), "1970-01-01 00:00 UTC");
+        assert_eq!(duration_text(810.0), "13 min 30 s");
+        assert_eq!(duration_text(42.0), "42 s");
+        assert_eq!(duration_text(3725.0), "1 h 2 min");
     }
 }
