@@ -35,6 +35,17 @@ async fn the_part_in_trouble_comes_first_with_its_numbers() {
         "the numbers are in the words: {}",
         rows[0]
     );
+    // The demo's r4 bank is wearing: unit 3's margin falls run after run and the inferred
+    // capacitance drifts; both are shown, not folded away.
+    let wearing = page.select_texts("#health li.row:first-child .degrading");
+    assert!(
+        wearing.iter().any(|w| w.contains("margin fell")),
+        "{wearing:?}"
+    );
+    assert!(
+        wearing.iter().any(|w| w.contains("capacitance drifted")),
+        "{wearing:?}"
+    );
     let severities: Vec<String> = page
         .html()
         .select(&scraper::Selector::parse("#health li.row").unwrap())

@@ -15,7 +15,6 @@ use crate::analysis::hot_time::hot_time_s;
 use crate::analysis::model::ModelReport;
 use crate::analysis::reading::Reading;
 use crate::analysis::run::RunAnalysis;
-use crate::analysis::run_flags::merge_flags;
 use crate::analysis::series::{least_squares_line, samples};
 use crate::channel::Channel;
 use crate::parts::Role;
@@ -206,7 +205,7 @@ pub fn build_trends(runs: &[RunSummary]) -> BuildTrends {
     BuildTrends {
         running_time_s: cumulative_s,
         parts,
-        flags: merge_flags(flags),
+        flags: distinct_flags(flags),
     }
 }
 
@@ -361,3 +360,12 @@ fn degrading(part: Role, message: String) -> Flag {
 #[cfg(test)]
 #[path = "trends_tests.rs"]
 mod tests;
+
+/// Worst first, each finding once. Unlike a run's flags, two `part-degrading` findings about one
+/// part (a falling margin and a drifting capacitance) are different evidence: both are kept.
+fn distinct_flags(mut flags: Vec<Flag>) -> Vec<Flag> {
+    flags.sort_by_key(|f| std::cmp::Reverse(f.severity));
+    let mut seen = std::collections::HashSet::new();
+    flags.retain(|f| seen.insert((f.code, f.part, f.message.clone())));
+    flags
+}

@@ -24,6 +24,8 @@ pub struct PartHealth {
     pub latest_margin: String,
     pub trend: String,
     pub running: String,
+    /// Evidence that the part is wearing out across runs, always shown.
+    pub degrading: Vec<String>,
     pub details: Vec<String>,
     rank: (u8, i64),
 }
@@ -106,6 +108,12 @@ pub fn build_health(revision: &str, digests: &[&RunDigest]) -> BuildHealth {
                 _ => "one run so far: no trend yet".into(),
             };
             let count = units.len();
+            let degrading: Vec<String> = trends
+                .flags
+                .iter()
+                .filter(|f| f.part == Some(role) && f.code == "part-degrading")
+                .map(|f| f.message.clone())
+                .collect();
             PartHealth {
                 rank: (severity.map_or(0, |s| s as u8 + 1), margin.map_or(i64::MAX, |m| (m * 10.0) as i64)),
                 severity: severity.map_or("ok", severity_word),
@@ -118,6 +126,7 @@ pub fn build_health(revision: &str, digests: &[&RunDigest]) -> BuildHealth {
                     duration_text(worst_unit.running_time_s),
                     duration_text(units.iter().map(|u| u.hot_time_s).fold(0.0, f64::max))
                 ),
+                degrading,
                 details: std::iter::once(margin_text).chain(findings.into_iter().map(|(_, m)| m)).collect(),
             }
         })
