@@ -314,13 +314,12 @@ async fn a_run_form_with_bad_values_saves_nothing() {
     assert_eq!(app.count_rows("runs").await, 0);
 }
 
-#[tokio::test]
-async fn a_bad_reading_is_refused_with_a_message_and_not_saved() {
-    let (app, session) = app_with_revision().await;
+/// Starts an idle run on r1 that logs the tank capacitor, and returns its page's path.
+async fn start_tank_run(app: &TestApp, session: &Session) -> String {
     let started = app
         .post_form(
             "/builds/bench-heater/runs",
-            &session,
+            session,
             &[
                 ("revision", "r1"),
                 ("load", "none"),
@@ -328,7 +327,14 @@ async fn a_bad_reading_is_refused_with_a_message_and_not_saved() {
             ],
         )
         .await;
-    let run_path = started.location();
+    assert_eq!(started.status, StatusCode::SEE_OTHER, "{}", started.body);
+    started.location()
+}
+
+#[tokio::test]
+async fn a_bad_reading_is_refused_with_a_message_and_not_saved() {
+    let (app, session) = app_with_revision().await;
+    let run_path = start_tank_run(&app, &session).await;
     for (channel, value, time) in [
         ("temp.tank_capacitor", "hot", ""),
         ("temp.tank_capacitor", "41 V", ""),
@@ -358,18 +364,7 @@ async fn a_bad_reading_is_refused_with_a_message_and_not_saved() {
 #[tokio::test]
 async fn finishing_a_run_records_the_failed_part_and_closes_entry() {
     let (app, session) = app_with_revision().await;
-    let started = app
-        .post_form(
-            "/builds/bench-heater/runs",
-            &session,
-            &[
-                ("revision", "r1"),
-                ("load", "none"),
-                ("channel", "temp.tank_capacitor"),
-            ],
-        )
-        .await;
-    let run_path = started.location();
+    let run_path = start_tank_run(&app, &session).await;
     let missing_part = app
         .post_form(
             &format!("{run_path}/finish"),

@@ -56,19 +56,27 @@ fn bank(count: u32) -> Parts {
     }
 }
 
-#[tokio::test]
-async fn revisions_number_in_order_and_keep_their_parts_and_parent() {
+async fn fresh_store() -> (tempfile::TempDir, Store) {
     let dir = tempfile::tempdir().unwrap();
     let store = Store::open(dir.path()).await.unwrap();
-    let build = store
-        .create_build(&NewBuild {
-            name: "Rig",
-            purpose: "",
-            notes: "",
-            created_by: None,
-        })
-        .await
-        .unwrap();
+    (dir, store)
+}
+
+/// A build named "Rig" (slug `rig`, or `rig-2`… when taken).
+async fn rig(store: &Store) -> eddybench::store::Build {
+    let new = NewBuild {
+        name: "Rig",
+        purpose: "",
+        notes: "",
+        created_by: None,
+    };
+    store.create_build(&new).await.unwrap()
+}
+
+#[tokio::test]
+async fn revisions_number_in_order_and_keep_their_parts_and_parent() {
+    let (_dir, store) = fresh_store().await;
+    let build = rig(&store).await;
     let r1 = store
         .create_revision(build.id, None, &bank(4), "first", None)
         .await
@@ -89,31 +97,14 @@ async fn revisions_number_in_order_and_keep_their_parts_and_parent() {
         bank(4),
         "r1 unchanged"
     );
-    let again = store
-        .create_build(&NewBuild {
-            name: "Rig",
-            purpose: "",
-            notes: "",
-            created_by: None,
-        })
-        .await
-        .unwrap();
+    let again = rig(&store).await;
     assert_eq!(again.slug, "rig-2", "a taken slug is numbered");
 }
 
 #[tokio::test]
 async fn a_correction_keeps_the_old_value_in_the_history() {
-    let dir = tempfile::tempdir().unwrap();
-    let store = Store::open(dir.path()).await.unwrap();
-    let build = store
-        .create_build(&NewBuild {
-            name: "Rig",
-            purpose: "",
-            notes: "",
-            created_by: None,
-        })
-        .await
-        .unwrap();
+    let (_dir, store) = fresh_store().await;
+    let build = rig(&store).await;
     let revision = store
         .create_revision(build.id, None, &bank(4), "", None)
         .await
