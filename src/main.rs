@@ -262,6 +262,7 @@ async fn run_server(
     let router = app(AppState {
         store,
         config: Arc::new(config),
+        run_feeds: Default::default(),
     });
     println!("Eddybench is serving at http://{address}/");
     if let Some(banner) = banner {

@@ -22,7 +22,9 @@ mod revisions;
 mod routes;
 mod run_analysis;
 mod run_entry;
+mod run_live;
 mod run_page;
+mod run_set;
 mod run_view;
 mod runs;
 mod security;
@@ -50,6 +52,8 @@ pub use session::CurrentUser;
 pub struct AppState {
     pub store: Store,
     pub config: Arc<Config>,
+    /// Changes to open runs, for the run pages' live streams.
+    pub run_feeds: crate::run_feed::RunFeeds,
 }
 
 impl FromRef<AppState> for Store {

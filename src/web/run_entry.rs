@@ -1,5 +1,5 @@
-//! Logging at the bench: a reading stamped with the time since the start, a correction that
-//! keeps the old value, and the end of the run.
+//! Corrections that keep the old value, and the end of the run (sets of readings and marks are
+//! in `run_set`).
 
 use axum::Form;
 use axum::extract::{Path, State};
@@ -8,48 +8,12 @@ use serde::Deserialize;
 
 use super::session::Editor;
 use super::{AppError, AppState, Result};
-use crate::channel::{Channel, Quantity};
-use crate::store::{NewReading, Outcome, ReadingId, RunFinish, now_unix_s};
-use crate::units::{Unit, parse_elapsed_s, parse_value};
+pub(super) use crate::analysis::reading_set::{entry_unit, parse_entry, unit_for};
+use crate::channel::Channel;
+use crate::run_feed::RunChange;
+use crate::store::{Outcome, ReadingId, RunFinish};
 
 use super::runs::{build_and_run, channels_of};
-
-/// What a bare number in an entry field means: the frequency field takes kHz (the numeric
-/// keyboard of a phone has no `k`, and no driver of this kind runs below a few kHz); every other
-/// field its SI unit. Typed units and prefixes always win: `152k`, `152000 Hz`.
-pub(super) fn parse_entry(channel: Channel, text: &str) -> Result<f64, crate::units::UnitError> {
-    let bare = text.trim().replace(',', ".").parse::<f64>().is_ok();
-    let value = parse_value(text, unit_for(channel.quantity()))?;
-    Ok(if bare && channel == Channel::Frequency {
-        value * 1e3
-    } else {
-        value
-    })
-}
-
-pub(super) fn entry_unit(channel: Channel) -> &'static str {
-    match channel {
-        Channel::Frequency => "kHz",
-        other => other.quantity().unit(),
-    }
-}
-
-pub(super) fn unit_for(quantity: Quantity) -> Unit {
-    match quantity {
-        Quantity::Voltage => Unit::Volt,
-        Quantity::Current => Unit::Ampere,
-        Quantity::Frequency => Unit::Hertz,
-        Quantity::Temperature => Unit::Celsius,
-    }
-}
-
-#[derive(Deserialize)]
-pub(super) struct ReadingForm {
-    channel: String,
-    value: String,
-    #[serde(default)]
-    time: String,
-}
 
 /// Back to the run page with a message beside the field (the page keeps no typed values, so
 /// the message says what was wrong and the user types again).
@@ -60,65 +24,6 @@ fn back_with_error(slug: &str, id: i64, channel: &str, message: &str) -> Respons
         "/builds/{slug}/runs/{id}?error={message}&channel={channel}#entry-{channel}"
     ))
     .into_response()
-}
-
-pub(super) async fn add_reading(
-    State(state): State<AppState>,
-    Editor(user): Editor,
-    Path((slug, id)): Path<(String, i64)>,
-    Form(form): Form<ReadingForm>,
-) -> Result<Response> {
-    let (_, run) = build_and_run(&state, &slug, id).await?;
-    if !run.is_open() {
-        return Err(AppError::Conflict(
-            "this run is finished; readings can no longer be added".into(),
-        ));
-    }
-    let channel: Channel = match form.channel.parse() {
-        Ok(c) => c,
-        Err(e) => return Ok(back_with_error(&slug, id, &form.channel, &e.to_string())),
-    };
-    let value = match parse_entry(channel, &form.value) {
-        Ok(v) => v,
-        Err(e) => return Ok(back_with_error(&slug, id, &form.channel, &e.to_string())),
-    };
-    let (low, high) = channel.plausible_range();
-    if !(low..=high).contains(&value) {
-        return Ok(back_with_error(
-            &slug,
-            id,
-            &form.channel,
-            &format!("{} is outside {low}..{high}", form.value.trim()),
-        ));
-    }
-    let t_s = if form.time.trim().is_empty() {
-        (now_unix_s() - run.started_at).max(0) as f64
-    } else {
-        match parse_elapsed_s(&form.time) {
-            Ok(t) => t,
-            Err(_) => {
-                return Ok(back_with_error(
-                    &slug,
-                    id,
-                    &form.channel,
-                    "time: use 2:30 or 150 s",
-                ));
-            }
-        }
-    };
-    state
-        .store
-        .add_readings(
-            run.id,
-            &[NewReading {
-                t_s,
-                channel: channel.to_string(),
-                value,
-            }],
-            Some(user.user_id),
-        )
-        .await?;
-    Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#entry-{}", channel)).into_response())
 }
 
 #[derive(Deserialize)]
@@ -155,6 +60,7 @@ pub(super) async fn correct_reading(
         .store
         .correct_reading(run.id, ReadingId(reading), value, Some(user.user_id))
         .await?;
+    state.run_feeds.notify(run.id, RunChange::Readings);
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#readings")).into_response())
 }
 
@@ -216,31 +122,6 @@ pub(super) async fn finish(
         )
         .await?;
     super::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
+    state.run_feeds.notify(run.id, RunChange::Finished);
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}")).into_response())
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn a_bare_frequency_is_khz_and_typed_units_win() {
-        for (text, hz) in [
-            ("152", 152e3),
-            ("152,5", 152.5e3),
-            ("152k", 152e3),
-            ("152000 Hz", 152e3),
-            ("0.15 MHz", 150e3),
-        ] {
-            let got = parse_entry(Channel::Frequency, text).unwrap();
-            assert!((got - hz).abs() < 1e-6, "{text}: {got}");
-        }
-        assert_eq!(
-            parse_entry(Channel::SupplyCurrent, "3").unwrap(),
-            3.0,
-            "other channels keep SI"
-        );
-        assert!(parse_entry(Channel::Frequency, "fast").is_err());
-        assert_eq!(entry_unit(Channel::Frequency), "kHz");
-    }
 }

@@ -16,7 +16,7 @@ use super::routes::{Access, Routes};
 use super::session::Editor;
 use super::view::date_time;
 use super::{AppError, AppState, Result};
-use super::{run_entry, run_page};
+use super::{run_entry, run_live, run_page, run_set};
 use crate::channel::Channel;
 use crate::parts::{Parts, Role};
 use crate::store::{Build, NewRun, Revision, Run, RunId};
@@ -31,7 +31,27 @@ pub fn router() -> Routes {
         .post(
             "/builds/{slug}/runs/{id}/readings",
             Access::Editor,
-            run_entry::add_reading,
+            run_set::add_set,
+        )
+        .post(
+            "/builds/{slug}/runs/{id}/marks",
+            Access::Editor,
+            run_set::add_mark,
+        )
+        .post(
+            "/builds/{slug}/runs/{id}/entry-order",
+            Access::Editor,
+            run_set::move_field_earlier,
+        )
+        .get(
+            "/builds/{slug}/runs/{id}/events",
+            Access::Viewer,
+            run_live::events,
+        )
+        .get(
+            "/s/{slug}/runs/{id}/events",
+            Access::Share,
+            run_live::events,
         )
         .post(
             "/builds/{slug}/runs/{id}/readings/{reading}/correct",
@@ -44,9 +64,6 @@ pub fn router() -> Routes {
             run_entry::finish,
         )
 }
-
-/// Readings shown at once on an open run's page, newest first; the rest fold away.
-pub(super) const RECENT_READINGS: usize = 20;
 
 pub const LOADS: [&str; 4] = ["none", "ferrous", "non_ferrous", "water"];
 
