@@ -17,16 +17,16 @@ use futures_util::stream::{self, StreamExt};
 use serde::{Deserialize, Serialize};
 use tokio::sync::broadcast::error::RecvError;
 
-use super::reader::Reader;
-use super::run_analysis::analysis_readings;
-use super::run_view::{LiveRow, live_row};
-use super::runs::reader_build_and_run;
-use super::view::minutes_seconds;
-use super::{AppState, Result};
+use super::analysis::analysis_readings;
+use super::lookup::reader_build_and_run;
+use super::view::{LiveRow, live_row};
 use crate::analysis::live::live_margins;
 use crate::analysis::operating_point::operating_point;
 use crate::channel::Channel;
 use crate::store::{Run, RunId};
+use crate::web::reader::Reader;
+use crate::web::view::minutes_seconds;
+use crate::web::{AppState, Result};
 
 /// Readings one update carries at most; a page that missed more reloads instead.
 const CATCH_UP_READINGS: i64 = 200;

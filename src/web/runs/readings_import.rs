@@ -15,11 +15,11 @@ use serde::de::{DeserializeSeed, IgnoredAny, SeqAccess, Visitor};
 use serde::{Deserializer, Serialize};
 use serde_json::Value;
 
-use super::AppError;
 use crate::analysis::sent_entry::{check_elapsed_s, check_sender_id};
 use crate::channel::Channel;
 use crate::parts::Parts;
 use crate::store::{NewReading, ReadingsImport, StoreError};
+use crate::web::AppError;
 
 /// Rows collected before they are written: the size of one multi-row INSERT.
 const BATCH_ROWS: usize = 500;

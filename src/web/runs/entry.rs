@@ -1,25 +1,25 @@
 //! Corrections that keep the old value, and the end of the run (sets of readings and marks are
-//! in `run_set`).
+//! in `set`).
 
 use axum::Form;
 use axum::extract::{Path, State};
 use axum::response::{IntoResponse, Redirect, Response};
 use serde::Deserialize;
 
-use super::session::Editor;
-use super::{AppError, AppState, Result};
-pub(super) use crate::analysis::reading_set::{entry_unit, parse_entry, unit_for};
+use crate::analysis::reading_set::parse_entry;
 use crate::channel::Channel;
 use crate::run_feed::RunChange;
 use crate::store::{Outcome, ReadingId, RunFinish};
+use crate::web::accounts::session::Editor;
+use crate::web::{AppError, AppState, Result};
 
-use super::runs::{build_and_run, channels_of};
+use super::lookup::{build_and_run, channels_of};
 
 /// Back to the run page with a message beside the field (the page keeps no typed values, so
 /// the message says what was wrong and the user types again).
 fn back_with_error(slug: &str, id: i64, channel: &str, message: &str) -> Response {
-    let message = super::error::urlencode(message);
-    let channel = super::error::urlencode(channel);
+    let message = crate::web::error::urlencode(message);
+    let channel = crate::web::error::urlencode(channel);
     Redirect::to(&format!(
         "/builds/{slug}/runs/{id}?error={message}&channel={channel}#entry-{channel}"
     ))
@@ -121,7 +121,5 @@ pub(super) async fn finish(
             },
         )
         .await?;
-    super::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
-    state.run_feeds.notify(run.id, RunChange::Finished);
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}")).into_response())
 }

@@ -10,18 +10,18 @@ use axum::http::{HeaderMap, StatusCode, header};
 use axum::response::{IntoResponse, Redirect, Response};
 use axum::{Form, Json};
 
-use super::reader::Reader;
-use super::run_page::{Submitted, render};
-use super::runs::build_and_run;
-use super::session::Editor;
-use super::view::minutes_seconds;
-use super::{AppError, AppState, Result};
+use super::lookup::build_and_run;
+use super::page::{Submitted, render};
 use crate::analysis::entry_order::{entry_order, move_earlier};
 use crate::analysis::event_mark::check_event_mark;
 use crate::analysis::reading_set::{FieldError, check_reading_set};
 use crate::channel::Channel;
 use crate::run_feed::RunChange;
 use crate::store::{MarkStored, NewEventMark, NewReading, Run, StoreError};
+use crate::web::accounts::session::Editor;
+use crate::web::reader::Reader;
+use crate::web::view::minutes_seconds;
+use crate::web::{AppError, AppState, Result};
 
 /// Whether the page's script sent this (it asks for JSON) rather than a plain form.
 fn wants_json(headers: &HeaderMap) -> bool {

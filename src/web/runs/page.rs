@@ -8,20 +8,21 @@ use askama_web::WebTemplate;
 use axum::extract::{Path, Query, State};
 use serde::Deserialize;
 
-use super::chrome::Chrome;
-use super::reader::Reader;
-use super::run_analysis::{analyse_stored_run, analysis_readings};
-use super::run_view::AnalysisView;
-use super::view::{date_time, load_title, maybe, minutes_seconds};
-use super::{AppState, Result};
 use crate::analysis::entry_order::entry_order;
 use crate::analysis::reading_set::FieldError;
 use crate::channel::Channel;
 use crate::store::{Build, EventMark, Outcome, ReadingRow, Run, now_unix_s};
 use crate::units::Unit;
+use crate::web::chrome::Chrome;
+use crate::web::reader::Reader;
+use crate::web::runs::analysis::{analyse_stored_run, analysis_readings};
+use crate::web::runs::view::AnalysisView;
+use crate::web::view::{date_time, load_title, maybe, minutes_seconds};
+use crate::web::{AppState, Result};
 
-use super::run_entry::{entry_unit, unit_for};
-use super::runs::{channels_of, reader_build_and_run};
+use crate::analysis::reading_set::{entry_unit, unit_for};
+
+use super::lookup::{channels_of, reader_build_and_run};
 
 /// Readings in one page of the table, newest first.
 pub(super) const READINGS_PER_PAGE: i64 = 40;
@@ -50,7 +51,7 @@ pub(super) struct ShowPage {
     error: String,
     error_channel: String,
     analysis: AnalysisView,
-    attachments: Vec<super::attachments::AttachmentView>,
+    attachments: Vec<crate::web::attachments::AttachmentView>,
     /// For the page's script: the server's clock (Unix ms) when the page was made, the run's
     /// start (Unix s) and the newest reading id shown (where the live stream picks up).
     server_ms: i64,
@@ -245,7 +246,7 @@ pub(super) async fn render(
         error: String::new(),
         error_channel: String::new(),
         analysis,
-        attachments: super::attachments::views_of_run(
+        attachments: crate::web::attachments::views_of_run(
             state,
             &reader.chrome("", &build).base,
             &run,
