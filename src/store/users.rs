@@ -194,10 +194,11 @@ impl Store {
     }
 
     pub async fn clear_login_failures(&self, name: &str) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
         sqlx::query("DELETE FROM login_failures WHERE name = ?")
             .bind(name)
-            .execute(&self.pool)
+            .execute(&mut *tx)
             .await?;
-        Ok(())
+        tx.commit().await
     }
 }
