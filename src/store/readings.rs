@@ -291,8 +291,19 @@ impl ReadingsImport {
         )
         .await?;
         tx.commit().await?;
-        // The staged copies are cleared away after the answer, as on a failed import.
-        Ok(self.inserted)
+        // The staged copies go before the answer, in bounded writes, so the import leaves
+        // nothing behind it by the time its caller hears of it.
+        let inserted = self.inserted;
+        self.discard().await?;
+        Ok(inserted)
+    }
+
+    /// Deletes what the import staged (the same happens, later, when it is dropped).
+    pub async fn discard(mut self) -> StoreResult<()> {
+        match self.import_id.take() {
+            Some(import_id) => discard_import(&self.store, import_id).await,
+            None => Ok(()),
+        }
     }
 }
 
