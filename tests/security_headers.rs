@@ -185,6 +185,17 @@ async fn every_response_of_every_route_carries_the_security_headers() {
             false,
             &mut problems,
         );
+        // A signed-in person's or a script's answers (pictures included) and every API
+        // answer must not be kept by a browser or proxy once they sign out.
+        let personal = !matches!(principal, Principal::Anonymous | Principal::Share(_))
+            || address.starts_with("/api/");
+        let cache_control = header_values(&page, "cache-control");
+        if personal && !cache_control.iter().any(|v| v.contains("no-store")) {
+            problems.push(format!(
+                "{} {address} as {name}: Cache-Control {cache_control:?} lets it be kept",
+                route.method
+            ));
+        }
     }
     assert!(html_pages > 30, "the walk saw {html_pages} pages");
     assert_no_problems(&problems);

@@ -94,8 +94,18 @@ pub fn app(state: AppState) -> Router {
             state.clone(),
             security::headers,
         ))
-        .layer(tower_http::trace::TraceLayer::new_for_http())
+        .layer(tower_http::trace::TraceLayer::new_for_http().make_span_with(request_span))
         .with_state(state)
+}
+
+/// A request's log span names the route it matched (`/s/{token}/...`), never the raw URI: a
+/// share token or a query must not reach the log.
+fn request_span(request: &axum::http::Request<axum::body::Body>) -> tracing::Span {
+    let route = request
+        .extensions()
+        .get::<axum::extract::MatchedPath>()
+        .map_or("(no route)", axum::extract::MatchedPath::as_str);
+    tracing::info_span!("request", method = %request.method(), route)
 }
 
 /// 200 `ok` once the database is open and migrated (migrations run before the server listens).

@@ -508,7 +508,7 @@ fn picture_headers(
     );
     headers.insert(
         header::CACHE_CONTROL,
-        HeaderValue::from_static("private, max-age=86400"),
+        HeaderValue::from_static("private, no-store"),
     );
     headers.insert(
         header::ETAG,
