@@ -271,6 +271,8 @@ async fn run_server(
     let listener = axum::serve::ListenerExt::tap_io(listener, |tcp| {
         let _ = tcp.set_nodelay(true);
     });
+    // The peer's address reaches the sign-in throttle.
+    let router = router.into_make_service_with_connect_info::<SocketAddr>();
     axum::serve(listener, router)
         .with_graceful_shutdown(async {
             let _ = tokio::signal::ctrl_c().await;

@@ -66,13 +66,12 @@ impl Store {
         Ok(fingerprints)
     }
 
-    /// Moves the last failed sign-in under `name` `seconds` into the past, as if that much
-    /// time had gone by since (the wait is computed from this stored time).
-    pub async fn backdate_login_failure(&self, name: &str, seconds: i64) -> StoreResult<()> {
+    /// Moves every failed sign-in `seconds` into the past, as if that much time had gone by
+    /// (the waits are computed from these stored times).
+    pub async fn backdate_login_failures(&self, seconds: i64) -> StoreResult<()> {
         let mut tx = self.begin_write().await?;
-        sqlx::query("UPDATE login_failures SET last_failed_at = last_failed_at - ? WHERE name = ?")
+        sqlx::query("UPDATE login_failures SET last_failed_at = last_failed_at - ?")
             .bind(seconds)
-            .bind(name)
             .execute(&mut *tx)
             .await?;
         tx.commit().await

@@ -120,6 +120,17 @@ impl TestApp {
 
     /// Posts the login form as a browser would (token cookie, Origin) and returns the answer.
     pub async fn login_attempt(&self, name: &str, password: &str, next: &str) -> Page {
+        self.login_attempt_from(name, password, next, None).await
+    }
+
+    /// As `login_attempt`, from the peer address `source` (as the real server sees it).
+    pub async fn login_attempt_from(
+        &self,
+        name: &str,
+        password: &str,
+        next: &str,
+        source: Option<std::net::SocketAddr>,
+    ) -> Page {
         let page = self
             .send(
                 Request::get("/login")
@@ -138,16 +149,19 @@ impl TestApp {
             ("password", password),
             ("next", next),
         ]);
-        self.send(
-            Request::post("/login")
-                .header(header::HOST, HOST)
-                .header(header::ORIGIN, ORIGIN)
-                .header(header::COOKIE, format!("eb_csrf={pre_cookie}"))
-                .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded")
-                .body(Body::from(body))
-                .unwrap(),
-        )
-        .await
+        let mut request = Request::post("/login")
+            .header(header::HOST, HOST)
+            .header(header::ORIGIN, ORIGIN)
+            .header(header::COOKIE, format!("eb_csrf={pre_cookie}"))
+            .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded")
+            .body(Body::from(body))
+            .unwrap();
+        if let Some(source) = source {
+            request
+                .extensions_mut()
+                .insert(axum::extract::ConnectInfo(source));
+        }
+        self.send(request).await
     }
 
     pub async fn login(&self, name: &str, password: &str) -> Option<Session> {

@@ -15,3 +15,9 @@ CREATE TABLE staged_readings (
     value      REAL NOT NULL
 );
 CREATE INDEX staged_readings_by_import ON staged_readings(import_id);
+
+-- Sign-in failures are now counted per source address and per account, under fixed-length keys
+-- (`source:<address>`, `account:<sha-256 of the name>`), so a long name cannot grow the table;
+-- rows older than a day are pruned. Rows kept under raw names before this are dropped.
+DELETE FROM login_failures;
+CREATE INDEX login_failures_by_time ON login_failures(last_failed_at);
