@@ -165,7 +165,7 @@ impl Store {
     /// Rows in a table, for tests that check that nothing was saved. Only the logbook's own
     /// table names are accepted.
     pub async fn count_rows(&self, table: &str) -> StoreResult<i64> {
-        const TABLES: [&str; 13] = [
+        const TABLES: [&str; 15] = [
             "users",
             "sessions",
             "builds",
@@ -179,6 +179,8 @@ impl Store {
             "audit_events",
             "api_tokens",
             "attachments",
+            "reading_imports",
+            "staged_readings",
         ];
         if !TABLES.contains(&table) {
             return Err(StoreError::NotFound);

@@ -86,11 +86,18 @@ impl Page {
 
 impl TestApp {
     pub async fn new() -> TestApp {
+        TestApp::with_config(|_| {}).await
+    }
+
+    /// A test app whose configuration `adjust` changes first.
+    pub async fn with_config(adjust: impl FnOnce(&mut Config)) -> TestApp {
         let dir = tempfile::tempdir().unwrap();
         let store = Store::open(dir.path()).await.unwrap();
+        let mut config = Config::new(dir.path().to_path_buf());
+        adjust(&mut config);
         let state = AppState {
             store: store.clone(),
-            config: Arc::new(Config::new(dir.path().to_path_buf())),
+            config: Arc::new(config),
         };
         TestApp {
             router: app(state),
