@@ -73,6 +73,10 @@ impl Server {
         Server { child, address }
     }
 
+    pub fn pid(&self) -> u32 {
+        self.child.id()
+    }
+
     /// SIGKILL: no clean stop, no flush, as at a power cut of the process.
     pub fn kill(mut self) {
         self.child.kill().expect("the server can be killed");
