@@ -177,10 +177,7 @@ async fn main() {
             .await
             .unwrap();
         let cookie = format!("eb_session={session}");
-        let router = app(AppState {
-            store,
-            config: Arc::new(Config::new(dir.path().to_path_buf())),
-        });
+        let router = app(AppState::new(store, Config::new(dir.path().to_path_buf())));
         let first = view(&router, &cookie).await;
         let mut warm = Vec::new();
         for _ in 0..9 {

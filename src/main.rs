@@ -259,10 +259,7 @@ async fn run_server(
         .await
         .with_context(|| format!("cannot listen on {listen}"))?;
     let address = listener.local_addr()?;
-    let router = app(AppState {
-        store,
-        config: Arc::new(config),
-    });
+    let router = app(AppState::new(store, config));
     println!("Eddybench is serving at http://{address}/");
     if let Some(banner) = banner {
         println!("{banner}");

@@ -176,10 +176,7 @@ async fn forwarded_headers_count_only_when_configured() {
     let store: Store = app.store.clone();
     let mut config = Config::new(app.data_dir().to_path_buf());
     config.trust_forwarded = true;
-    let proxied = eddybench::app(AppState {
-        store,
-        config: Arc::new(config),
-    });
+    let proxied = eddybench::app(AppState::new(store, config));
     let trusted = post_build(
         &proxied,
         &session.cookie,

@@ -133,3 +133,58 @@ async fn pages_are_gzipped_only_when_the_client_asks() {
     assert_eq!(&bytes[..2], &[0x1f, 0x8b]);
     assert!(bytes.len() < plain.body.len(), "compressed is smaller");
 }
+
+#[tokio::test]
+async fn the_build_page_is_kept_until_the_build_changes() {
+    let app = TestApp::new().await;
+    let token = token_for(&app, "logger").await;
+    let session = app.signed_in("ada", UserRole::Viewer).await;
+    let run = open_run(&app, &token).await;
+    let get = |etag: Option<&str>| {
+        let mut request = Request::get("/builds/bench-heater")
+            .header(header::HOST, HOST)
+            .header(header::COOKIE, session.cookie.clone());
+        if let Some(etag) = etag {
+            request = request.header(header::IF_NONE_MATCH, etag);
+        }
+        request.body(Body::empty()).unwrap()
+    };
+    let first = app.send(get(None)).await;
+    assert_eq!(first.status, StatusCode::OK);
+    let etag = first.headers[header::ETAG].to_str().unwrap().to_string();
+    let again = app.send(get(None)).await;
+    assert_eq!(
+        again.headers[header::ETAG],
+        etag.as_str(),
+        "unchanged build, same page"
+    );
+    assert_eq!(again.body, first.body);
+    let revalidated = app.send(get(Some(&etag))).await;
+    assert_eq!(revalidated.status, StatusCode::NOT_MODIFIED);
+    assert!(revalidated.body.is_empty());
+    // A reading changes the build: the kept page is not served any more.
+    let reading = json!([{"t_s": 1, "channel": "ambient_temp", "value": 22.0}]);
+    let page = app
+        .post_json(
+            &format!("/api/v1/runs/{run}/readings"),
+            Some(&token),
+            &reading.to_string(),
+        )
+        .await;
+    assert_eq!(page.status, StatusCode::CREATED);
+    let changed = app.send(get(Some(&etag))).await;
+    assert_eq!(changed.status, StatusCode::OK);
+    assert_ne!(changed.headers[header::ETAG], etag.as_str());
+    // Another viewer never gets a page rendered for someone else (names, form tokens).
+    let other = app.signed_in("bob", UserRole::Viewer).await;
+    let theirs = app
+        .send(
+            Request::get("/builds/bench-heater")
+                .header(header::HOST, HOST)
+                .header(header::COOKIE, other.cookie.clone())
+                .body(Body::empty())
+                .unwrap(),
+        )
+        .await;
+    assert_ne!(theirs.headers[header::ETAG], changed.headers[header::ETAG]);
+}

@@ -329,10 +329,7 @@ impl Https {
         let store = Store::open(dir.path()).await.unwrap();
         let mut config = Config::new(dir.path().to_path_buf());
         config.secure_cookies = true;
-        let router = app(AppState {
-            store: store.clone(),
-            config: Arc::new(config),
-        });
+        let router = app(AppState::new(store.clone(), config));
         Https {
             router,
             store,

@@ -11,6 +11,7 @@ pub mod compare;
 mod csrf;
 mod error;
 mod forms;
+mod page_cache;
 mod reader;
 mod revisions;
 mod routes;
@@ -40,6 +41,18 @@ pub use routes::{Access, RouteInfo};
 pub struct AppState {
     pub store: Store,
     pub config: Arc<Config>,
+    /// Rendered build pages with their validators (see page_cache.rs).
+    pub pages: page_cache::PageCache,
+}
+
+impl AppState {
+    pub fn new(store: Store, config: Config) -> AppState {
+        AppState {
+            store,
+            config: Arc::new(config),
+            pages: page_cache::PageCache::default(),
+        }
+    }
 }
 
 impl FromRef<AppState> for Store {

@@ -28,10 +28,10 @@ impl Served {
     pub async fn start() -> Served {
         let dir = tempfile::tempdir().unwrap();
         let store = Store::open(dir.path()).await.unwrap();
-        let router = app(AppState {
-            store: store.clone(),
-            config: Arc::new(Config::new(dir.path().to_path_buf())),
-        });
+        let router = app(AppState::new(
+            store.clone(),
+            Config::new(dir.path().to_path_buf()),
+        ));
         // Bound before the server task starts, so it accepts as soon as the test connects.
         let listener = tokio::net::TcpListener::bind("127.0.0.1:0").await.unwrap();
         let base = format!("http://{}", listener.local_addr().unwrap());

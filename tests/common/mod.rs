@@ -95,10 +95,7 @@ impl TestApp {
         let store = Store::open(dir.path()).await.unwrap();
         let mut config = Config::new(dir.path().to_path_buf());
         adjust(&mut config);
-        let state = AppState {
-            store: store.clone(),
-            config: Arc::new(config),
-        };
+        let state = AppState::new(store.clone(), config);
         TestApp {
             router: app(state),
             store,
