@@ -131,19 +131,6 @@ impl Store {
     }
 }
 
-#[cfg(test)]
-mod tests {
-    use super::slug_from_name;
-
-    #[test]
-    fn slugs_are_url_safe() {
-        assert_eq!(slug_from_name("Bench heater Mk II"), "bench-heater-mk-ii");
-        assert_eq!(slug_from_name("  --Ünïcode!! heater  "), "n-code-heater");
-        assert_eq!(slug_from_name("!!!"), "build");
-        assert!(slug_from_name(&"x".repeat(200)).len() <= 48);
-    }
-}
-
 impl Store {
     /// A short summary that changes whenever anything a build page shows changes: its runs
     /// (count, readings, finishes), revisions, shares and audit trail, and its own fields. Read
@@ -169,5 +156,18 @@ impl Store {
         .bind(build_id)
         .fetch_one(&self.pool)
         .await?)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::slug_from_name;
+
+    #[test]
+    fn slugs_are_url_safe() {
+        assert_eq!(slug_from_name("Bench heater Mk II"), "bench-heater-mk-ii");
+        assert_eq!(slug_from_name("  --Ünïcode!! heater  "), "n-code-heater");
+        assert_eq!(slug_from_name("!!!"), "build");
+        assert!(slug_from_name(&"x".repeat(200)).len() <= 48);
     }
 }
