@@ -4,7 +4,6 @@
 //!
 //! Run with `cargo bench --bench build_page`.
 
-use std::sync::Arc;
 use std::time::Instant;
 
 use axum::body::Body;

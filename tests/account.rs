@@ -3,8 +3,6 @@
 
 mod common;
 
-use std::sync::Arc;
-
 use axum::body::Body;
 use axum::http::{Request, StatusCode};
 use common::{PASSWORD, TestApp, form_body};

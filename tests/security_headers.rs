@@ -5,8 +5,6 @@
 mod access;
 mod common;
 
-use std::sync::Arc;
-
 use access::{PRINCIPALS, Principal, World, fill, payload, request};
 use axum::Router;
 use axum::body::Body;

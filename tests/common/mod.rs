@@ -5,8 +5,6 @@ pub mod chart_fixtures;
 pub mod fixtures;
 pub use fixtures::*;
 
-use std::sync::Arc;
-
 use axum::Router;
 use axum::body::Body;
 use axum::http::{Request, Response, StatusCode, header};
