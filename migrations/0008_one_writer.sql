@@ -12,9 +12,13 @@ CREATE TABLE staged_readings (
     import_id  INTEGER NOT NULL,
     t_s        REAL NOT NULL,
     channel    TEXT NOT NULL,
-    value      REAL NOT NULL
+    value      REAL NOT NULL,
+    client_id  TEXT
 );
 CREATE INDEX staged_readings_by_import ON staged_readings(import_id);
+-- A resend within one import is found among the rows it has staged.
+CREATE INDEX staged_readings_by_client_id ON staged_readings(import_id, client_id)
+    WHERE client_id IS NOT NULL;
 
 -- Sign-in failures are now counted per source address and per account, under fixed-length keys
 -- (`source:<address>`, `account:<sha-256 of the name>`), so a long name cannot grow the table;

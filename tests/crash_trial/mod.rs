@@ -192,11 +192,12 @@ impl CrashSetup {
             let path = format!("/api/v1/runs/{}/readings", self.run_id);
             tasks.push(tokio::spawn(async move {
                 let mut acknowledged = Vec::new();
-                for i in 0.. {
+                for i in 0..19_999 {
                     if stop.load(Ordering::Relaxed) {
                         break;
                     }
-                    let t_s = f64::from(trial) * 1e7 + writer as f64 * 1e5 + f64::from(i);
+                    // Within a run's week: 10,000 s a trial, 200 s a writer, 10 ms a reading.
+                    let t_s = f64::from(trial) * 1e4 + writer as f64 * 200.0 + f64::from(i) * 0.01;
                     let body = json!([{"t_s": t_s, "channel": "ambient_temp", "value": 21.5}]);
                     match post(&client, &address, &token, &path, body).await {
                         201 => acknowledged.push(t_s),
