@@ -11,19 +11,19 @@ use axum::response::{IntoResponse, Redirect, Response};
 use axum::routing::post;
 use serde::{Deserialize, Serialize};
 
-use super::api::ApiJson;
-use super::error::{ErrorBody, urlencode};
-use super::readings_import::{ImportError, RowCheck, import_csv, json_rows};
-use super::routes::{Access, Routes};
-use super::runs::{LOADS, channels_of, default_channels};
-use super::session::{CurrentUser, Editor};
-use super::{AppError, AppState, Result};
 use crate::analysis::{OperatingPoint, validate};
 use crate::channel::Channel;
 use crate::parts::Parts;
 use crate::store::{
     Build, NewBuild, NewRun, Outcome, Revision, Run, RunFinish, RunId, revision_number,
 };
+use crate::web::accounts::session::{CurrentUser, Editor};
+use crate::web::api::ApiJson;
+use crate::web::error::{ErrorBody, urlencode};
+use crate::web::routes::{Access, Routes};
+use crate::web::runs::lookup::{LOADS, channels_of, default_channels};
+use crate::web::runs::readings_import::{ImportError, RowCheck, import_csv, json_rows};
+use crate::web::{AppError, AppState, Result};
 
 /// JSON bodies are read whole; a CSV body streams and may be much larger.
 const JSON_LIMIT_BYTES: usize = 32 * 1024 * 1024;
@@ -546,7 +546,7 @@ async fn finish_run(
             },
         )
         .await?;
-    super::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
+    crate::web::runs::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
     let run = state.store.run_by_id(run.id).await?;
     Ok(Json(run_json(&state, &build, run).await?))
 }
@@ -594,7 +594,10 @@ async fn open_run(state: &AppState, run: &Run) -> Result<Revision> {
     Ok(state.store.revision_by_id(run.revision_id).await?)
 }
 
-/// `application/json`: an array of `{"t_s", "channel", "value"}`, read whole (up to 32 MiB).
+/// `application/json`: an array of `{"t_s", "channel", "value"}`, each with an optional `"id"`
+/// its sender made, read whole (up to 32 MiB). A row whose id is stored already with the same
+/// time and value is a resend and is counted as `already_stored`, not stored again; the same id
+/// with another value refuses the set (409).
 /// `text/csv`: a header `t_s,channel,value` and one reading a line, streamed (up to 256 MiB).
 /// Either way all rows are saved or none.
 #[tracing::instrument(skip_all, fields(run = id))]
@@ -631,11 +634,12 @@ async fn add_readings(
             ));
         }
     }
+    let already_stored = import.already_stored();
     let inserted = import.commit().await?;
-    tracing::info!(inserted, "readings imported");
+    tracing::info!(inserted, already_stored, "readings imported");
     Ok((
         StatusCode::CREATED,
-        Json(serde_json::json!({ "inserted": inserted })),
+        Json(serde_json::json!({ "inserted": inserted, "already_stored": already_stored })),
     )
         .into_response())
 }
