@@ -43,6 +43,8 @@ pub struct AppState {
     pub config: Arc<Config>,
     /// Rendered build pages with their validators (see page_cache.rs).
     pub pages: page_cache::PageCache,
+    /// Changes to open runs, for the run pages' live streams.
+    pub run_feeds: crate::run_feed::RunFeeds,
 }
 
 impl AppState {
@@ -51,6 +53,7 @@ impl AppState {
             store,
             config: Arc::new(config),
             pages: page_cache::PageCache::default(),
+            run_feeds: Default::default(),
         }
     }
 }

@@ -212,3 +212,26 @@ pub async fn screenshot(client: &Client, name: &str) {
     let png = client.screenshot().await.unwrap();
     std::fs::write(dir.join(format!("{name}.png")), png).unwrap();
 }
+
+#[allow(dead_code)] // not every browser test waits on a page that changes by itself
+/// Waits until the texts of the elements matched by `selector` satisfy `ok` (polled every
+/// 100 ms, for changes a page makes by itself) and returns them; panics with the last texts
+/// seen after `seconds`.
+pub async fn wait_for_texts(
+    client: &Client,
+    selector: &str,
+    seconds: u64,
+    ok: impl Fn(&[String]) -> bool,
+) -> Vec<String> {
+    let deadline = std::time::Instant::now() + std::time::Duration::from_secs(seconds);
+    loop {
+        let seen = texts(client, selector).await;
+        if ok(&seen) {
+            return seen;
+        }
+        if std::time::Instant::now() > deadline {
+            panic!("{selector} never became as expected; last seen {seen:?}");
+        }
+        tokio::time::sleep(std::time::Duration::from_millis(100)).await;
+    }
+}
