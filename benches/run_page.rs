@@ -5,7 +5,6 @@
 //!
 //! Run with `cargo bench --bench run_page`.
 
-use std::sync::Arc;
 use std::time::Instant;
 
 use axum::body::Body;
@@ -175,11 +174,7 @@ async fn main() {
             .await
             .unwrap();
         let cookie = format!("eb_session={session}");
-        let router = app(AppState {
-            store,
-            config: Arc::new(Config::new(dir.path().to_path_buf())),
-            run_feeds: Default::default(),
-        });
+        let router = app(AppState::new(store, Config::new(dir.path().to_path_buf())));
         let path = format!("/builds/bench/runs/{run}");
         let (first, bytes) = view(&router, &path, &cookie).await;
         let mut warm = Vec::new();
