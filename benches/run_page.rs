@@ -1,7 +1,7 @@
 //! The open run page at 1,000, 10,000 and 100,000 readings: bytes of HTML (before
 //! compression) and the time of the first view and the median of later (warm) views. The
 //! page's target is under 100 KB and under 50 ms warm at 100,000 readings, whatever the run's
-//! length: charts drawn from a min/max-decimated series, the table a page of 40 readings.
+//! length: charts drawn from a min/max-decimated series, the table a page of 25 readings.
 //!
 //! Run with `cargo bench --bench run_page`.
 

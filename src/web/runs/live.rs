@@ -17,11 +17,9 @@ use futures_util::stream::{self, StreamExt};
 use serde::{Deserialize, Serialize};
 use tokio::sync::broadcast::error::RecvError;
 
-use super::analysis::analysis_readings;
+use super::derived::derived;
 use super::lookup::reader_build_and_run;
-use super::view::{LiveRow, live_row};
-use crate::analysis::live::live_margins;
-use crate::analysis::operating_point::operating_point;
+use super::view::LiveRow;
 use crate::channel::Channel;
 use crate::store::{Run, RunId};
 use crate::web::reader::Reader;
@@ -109,10 +107,11 @@ async fn update_after(state: &AppState, run_id: RunId, after: i64) -> Result<(Li
             corrects: r.corrects_id.map(|c| c.0),
         })
         .collect();
-    let marks = state
-        .store
-        .event_marks(run.id)
-        .await?
+    let stored_marks = state.store.event_marks(run.id).await?;
+    let revision = state.store.revision_by_id(run.revision_id).await?;
+    // The fits are made once per change of the run, shared with the page and other watchers.
+    let memo = derived(state, &run, &revision, &stored_marks).await?;
+    let marks = stored_marks
         .into_iter()
         .filter(|m| !m.is_voided())
         .map(|m| LiveMark {
@@ -123,17 +122,11 @@ async fn update_after(state: &AppState, run_id: RunId, after: i64) -> Result<(Li
         .collect();
     let elapsed_s = (crate::store::now_unix_s() - run.started_at) as f64;
     let live = if run.is_open() {
-        let revision = state.store.revision_by_id(run.revision_id).await?;
-        let all = analysis_readings(&state.store, run.id).await?;
-        let setting = operating_point(&all, run.supply_setting_v).map(|op| op.supply_voltage_v);
-        live_margins(&revision.parts, &all, setting, elapsed_s)
-            .iter()
-            .map(live_row)
-            .collect()
+        memo.live_rows_at(elapsed_s)
     } else {
         Vec::new()
     };
-    let reading_count = state.store.current_reading_count(run.id).await?;
+    let reading_count = memo.reading_count;
     let update = LiveUpdate {
         readings,
         missed_some,

@@ -1,6 +1,7 @@
 //! Runs from the browser: start one, log readings at the bench, correct them, finish it.
 
 pub mod analysis;
+mod derived;
 pub mod digests;
 mod entry;
 mod live;

@@ -169,7 +169,7 @@ const MARKERS: [Marker; 6] = [
 
 /// Buckets a chart's series is thinned to (min/max per bucket): about as many as a phone has
 /// pixels across its plot, so the page stays small however long the run.
-const CHART_BUCKETS: usize = 50;
+const CHART_BUCKETS: usize = 32;
 
 /// A channel's readings as a chart draws them: every extreme kept, the count bounded.
 fn chart_points(readings: &[Reading], channel: Channel) -> Vec<(f64, f64)> {
