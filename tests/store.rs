@@ -139,7 +139,10 @@ async fn a_correction_keeps_the_old_value_in_the_history() {
         .await
         .unwrap();
     let old = store.current_readings(run).await.unwrap()[0].id;
-    store.correct_reading(run, old, 41.0, None).await.unwrap();
+    store
+        .correct_reading(run, old, None, 41.0, None)
+        .await
+        .unwrap();
     let current = store.current_readings(run).await.unwrap();
     assert_eq!(current.len(), 1);
     assert_eq!(current[0].value, 41.0);
@@ -147,7 +150,10 @@ async fn a_correction_keeps_the_old_value_in_the_history() {
     assert_eq!(history.len(), 2);
     assert!(history.iter().any(|r| r.value == 410.0 && r.superseded));
     assert!(
-        store.correct_reading(run, old, 42.0, None).await.is_err(),
+        store
+            .correct_reading(run, old, None, 42.0, None)
+            .await
+            .is_err(),
         "a replaced value cannot be corrected again"
     );
 }

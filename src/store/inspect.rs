@@ -76,4 +76,15 @@ impl Store {
             .await?;
         Ok(())
     }
+
+    /// Moves a run's start `seconds` into the past, as if it had been running that long (the
+    /// page bounds typed times by the time elapsed since the start).
+    pub async fn backdate_run(&self, run: super::RunId, seconds: i64) -> StoreResult<()> {
+        sqlx::query("UPDATE runs SET started_at = started_at - ? WHERE id = ?")
+            .bind(seconds)
+            .bind(run)
+            .execute(&self.pool)
+            .await?;
+        Ok(())
+    }
 }

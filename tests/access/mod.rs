@@ -434,7 +434,9 @@ pub fn payload(route: &RouteInfo) -> Result<Payload, String> {
         })),
         "/api/v1/builds" => json(serde_json::json!({"name": "Matrix API build"})),
         "/api/v1/builds/{slug}/revisions" => json(serde_json::json!({"parts": parts})),
-        "/api/v1/builds/{slug}/runs" => json(serde_json::json!({"revision": "r1", "load": "none"})),
+        "/api/v1/builds/{slug}/runs" => {
+            json(serde_json::json!({"revision": "r1", "load": "none", "supply_voltage_v": 24.0}))
+        }
         "/api/v1/runs/{id}/readings" => json(serde_json::json!([
             {"t_s": 60, "channel": "supply_voltage", "value": 24.0}
         ])),

@@ -6,14 +6,19 @@ use axum::extract::{Path, State};
 use axum::response::{IntoResponse, Redirect, Response};
 use serde::Deserialize;
 
-use crate::channel::Channel;
+use crate::checks;
 use crate::store::{NewReading, Outcome, ReadingId, RunFinish, now_unix_s};
 use crate::units::parse_elapsed_s;
 use crate::web::accounts::session::Editor;
 use crate::web::{AppError, AppState, Result};
 
-use super::entry_units::parse_entry;
-use super::lookup::{build_and_run, channels_of};
+use super::lookup::build_and_run;
+use super::page::{EntryState, refused, render};
+use crate::checks::readings::{ReadingBounds, typed_value};
+use crate::store::SessionUser;
+use crate::units::{Unit, eng};
+use crate::web::reader::Reader;
+use crate::web::view::minutes_seconds;
 
 #[derive(Deserialize)]
 pub(super) struct ReadingForm {
@@ -23,15 +28,36 @@ pub(super) struct ReadingForm {
     time: String,
 }
 
-/// Back to the run page with a message beside the field (the page keeps no typed values, so
-/// the message says what was wrong and the user types again).
-fn back_with_error(slug: &str, id: i64, channel: &str, message: &str) -> Response {
-    let message = crate::web::error::urlencode(message);
-    let channel = crate::web::error::urlencode(channel);
-    Redirect::to(&format!(
-        "/builds/{slug}/runs/{id}?error={message}&channel={channel}#entry-{channel}"
-    ))
-    .into_response()
+/// The run page again with a message beside the field (status 422, nothing saved).
+async fn refuse(
+    state: &AppState,
+    user: SessionUser,
+    place: (&str, i64),
+    channel: &str,
+    kept: (&str, &str),
+    message: &str,
+) -> Result<Response> {
+    let entry = EntryState {
+        error: message.to_string(),
+        channel: channel.chars().take(64).collect(),
+        kept_value: kept.0.chars().take(64).collect(),
+        kept_time: kept.1.chars().take(64).collect(),
+        notice: String::new(),
+    };
+    refused(state, user, place.0, place.1, entry).await
+}
+
+/// A time typed at the bench: empty means `default_s`; otherwise within the run so far.
+fn typed_time(
+    text: &str,
+    bounds: &ReadingBounds,
+    default_s: f64,
+) -> std::result::Result<f64, String> {
+    if text.trim().is_empty() {
+        return Ok(default_s.max(0.0));
+    }
+    let t_s = parse_elapsed_s(text).map_err(|_| "time: use 2:30 or 150 s".to_string())?;
+    bounds.t_s(t_s).map_err(|m| format!("time: {m}"))
 }
 
 pub(super) async fn add_reading(
@@ -46,36 +72,20 @@ pub(super) async fn add_reading(
             "this run is finished; readings can no longer be added".into(),
         ));
     }
-    let channel: Channel = match form.channel.parse() {
-        Ok(c) => c,
-        Err(e) => return Ok(back_with_error(&slug, id, &form.channel, &e.to_string())),
-    };
-    let value = match parse_entry(channel, &form.value) {
-        Ok(v) => v,
-        Err(e) => return Ok(back_with_error(&slug, id, &form.channel, &e.to_string())),
-    };
-    let (low, high) = channel.plausible_range();
-    if !(low..=high).contains(&value) {
-        return Ok(back_with_error(
-            &slug,
-            id,
-            &form.channel,
-            &format!("{} is outside {low}..{high}", form.value.trim()),
-        ));
-    }
-    let t_s = if form.time.trim().is_empty() {
-        (now_unix_s() - run.started_at).max(0) as f64
-    } else {
-        match parse_elapsed_s(&form.time) {
-            Ok(t) => t,
-            Err(_) => {
-                return Ok(back_with_error(
-                    &slug,
-                    id,
-                    &form.channel,
-                    "time: use 2:30 or 150 s",
-                ));
-            }
+    let revision = state.store.revision_by_id(run.revision_id).await?;
+    let elapsed_s = (now_unix_s() - run.started_at) as f64;
+    let bounds = ReadingBounds::page(&revision.parts, elapsed_s);
+    let kept = (form.value.as_str(), form.time.as_str());
+    let checked = bounds.channel(&form.channel).and_then(|channel| {
+        let typed = typed_value(channel, &form.value)?;
+        let value = bounds.value(channel, typed.value)?;
+        let t_s = typed_time(&form.time, &bounds, elapsed_s)?;
+        Ok((channel, value, t_s, typed.assumed))
+    });
+    let (channel, value, t_s, assumed) = match checked {
+        Ok(checked) => checked,
+        Err(message) => {
+            return refuse(&state, user, (&slug, id), &form.channel, kept, &message).await;
         }
     };
     state
@@ -90,12 +100,28 @@ pub(super) async fn add_reading(
             Some(user.user_id),
         )
         .await?;
+    if let Some(unit) = assumed {
+        // Say which unit a bare frequency was taken in.
+        let entry = EntryState {
+            notice: format!(
+                "Logged {} at {}: the number was read as {unit}.",
+                eng(value, Unit::Hertz),
+                minutes_seconds(t_s)
+            ),
+            ..EntryState::default()
+        };
+        let page = render(&state, &Reader::User(user), &slug, id, entry).await?;
+        return Ok(page.into_response());
+    }
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#entry-{}", channel)).into_response())
 }
 
 #[derive(Deserialize)]
 pub(super) struct CorrectionForm {
     value: String,
+    /// A corrected time; empty keeps the reading's time.
+    #[serde(default)]
+    time: String,
 }
 
 pub(super) async fn correct_reading(
@@ -110,22 +136,31 @@ pub(super) async fn correct_reading(
         .iter()
         .find(|r| r.id.0 == reading)
         .ok_or(AppError::NotFound)?;
-    let channel: Channel = old.channel.parse().map_err(|_| AppError::NotFound)?;
-    let value = match parse_entry(channel, &form.value) {
-        Ok(v) if (channel.plausible_range().0..=channel.plausible_range().1).contains(&v) => v,
-        Ok(_) => {
-            return Ok(back_with_error(
-                &slug,
-                id,
-                &old.channel,
-                "the corrected value is out of range",
-            ));
+    let revision = state.store.revision_by_id(run.revision_id).await?;
+    let until = run.finished_at.unwrap_or_else(now_unix_s);
+    let bounds = ReadingBounds::page(&revision.parts, (until - run.started_at) as f64);
+    let checked = bounds.channel(&old.channel).and_then(|channel| {
+        let value = bounds.value(channel, typed_value(channel, &form.value)?.value)?;
+        let t_s = typed_time(&form.time, &bounds, old.t_s)?;
+        Ok((value, t_s))
+    });
+    let (value, t_s) = match checked {
+        Ok(checked) => checked,
+        Err(message) => {
+            let message = format!("correction: {message}");
+            let kept = (form.value.as_str(), form.time.as_str());
+            return refuse(&state, user, (&slug, id), &old.channel, kept, &message).await;
         }
-        Err(e) => return Ok(back_with_error(&slug, id, &old.channel, &e.to_string())),
     };
     state
         .store
-        .correct_reading(run.id, ReadingId(reading), value, Some(user.user_id))
+        .correct_reading(
+            run.id,
+            ReadingId(reading),
+            Some(t_s),
+            value,
+            Some(user.user_id),
+        )
         .await?;
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#readings")).into_response())
 }
@@ -146,34 +181,20 @@ pub(super) async fn finish(
     Form(form): Form<FinishForm>,
 ) -> Result<Response> {
     let (_, run) = build_and_run(&state, &slug, id).await?;
-    let outcome = Outcome::parse(&form.outcome)
-        .ok_or_else(|| AppError::invalid("outcome", "choose how the run ended"))?;
     let revision = state.store.revision_by_id(run.revision_id).await?;
-    let failed_part = match (outcome, form.failed_part.trim()) {
-        (Outcome::PartFailed, "") => {
-            return Ok(back_with_error(
-                &slug,
-                id,
-                "finish",
-                "say which part failed",
-            ));
+    let checked = match checks::runs::finish(
+        &form.outcome,
+        &form.failed_part,
+        &form.note,
+        &revision.parts,
+    ) {
+        Ok(checked) => checked,
+        Err(refusal) => {
+            let (_, message) = refusal.first().unwrap_or(("finish", "refused"));
+            return refuse(&state, user, (&slug, id), "finish", ("", ""), message).await;
         }
-        (Outcome::PartFailed, part) => {
-            let known = channels_of(&revision.parts)
-                .iter()
-                .any(|c| c.to_string() == format!("temp.{part}"));
-            if !known {
-                return Ok(back_with_error(
-                    &slug,
-                    id,
-                    "finish",
-                    "that part is not in this revision",
-                ));
-            }
-            Some(part.to_string())
-        }
-        _ => None,
     };
+    let outcome = Outcome::parse(checked.outcome).ok_or(AppError::NotFound)?;
     state
         .store
         .finish_run(
@@ -181,8 +202,8 @@ pub(super) async fn finish(
             &RunFinish {
                 by: Some(user.user_id),
                 outcome,
-                failed_part: failed_part.as_deref(),
-                note: form.note.trim(),
+                failed_part: checked.failed_part.as_deref(),
+                note: &checked.note,
                 finished_at: None,
             },
         )

@@ -5,7 +5,7 @@ pub mod digests;
 mod entry;
 mod entry_units;
 pub mod lookup;
-mod page;
+pub mod page;
 pub mod readings_import;
 mod start;
 pub mod view;

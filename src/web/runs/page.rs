@@ -2,11 +2,12 @@
 
 use askama::Template;
 use askama_web::WebTemplate;
-use axum::extract::{Path, Query, State};
-use serde::Deserialize;
+use axum::extract::{Path, State};
+use axum::http::StatusCode;
+use axum::response::{IntoResponse, Response};
 
 use crate::channel::Channel;
-use crate::store::{Build, Outcome, Run, now_unix_s};
+use crate::store::{Build, Outcome, Run, SessionUser, now_unix_s};
 use crate::units::Unit;
 use crate::web::chrome::Chrome;
 use crate::web::reader::Reader;
@@ -40,6 +41,9 @@ pub(super) struct ShowPage {
     failed_part_title: String,
     error: String,
     error_channel: String,
+    kept_value: String,
+    kept_time: String,
+    notice: String,
     analysis: AnalysisView,
     attachments: Vec<crate::web::attachments::AttachmentView>,
 }
@@ -61,21 +65,50 @@ struct ReadingLine {
     corrected_from: Vec<String>,
 }
 
-#[derive(Deserialize, Default)]
-pub(super) struct ShowQuery {
-    #[serde(default)]
-    error: String,
-    #[serde(default)]
-    channel: String,
+/// What the entry forms show after a post: a message beside the refused field with what was
+/// typed kept in it, or a confirmation (which unit a bare number was taken in). Never carried in
+/// the address.
+#[derive(Default)]
+pub(crate) struct EntryState {
+    pub error: String,
+    pub channel: String,
+    pub kept_value: String,
+    pub kept_time: String,
+    pub notice: String,
 }
 
 pub(super) async fn show(
     State(state): State<AppState>,
     reader: Reader,
     Path((slug, id)): Path<(String, i64)>,
-    Query(query): Query<ShowQuery>,
 ) -> Result<ShowPage> {
-    let (build, run) = reader_build_and_run(&state, &reader, &slug, id).await?;
+    render(&state, &reader, &slug, id, EntryState::default()).await
+}
+
+/// The run page again with status 422: the message beside the refused field and what was typed
+/// kept in it; nothing was saved.
+pub(crate) async fn refused(
+    state: &AppState,
+    user: SessionUser,
+    slug: &str,
+    id: i64,
+    entry: EntryState,
+) -> Result<Response> {
+    let page = render(state, &Reader::User(user), slug, id, entry).await?;
+    Ok((StatusCode::UNPROCESSABLE_ENTITY, page).into_response())
+}
+
+/// The run page, with the entry forms in the given state.
+pub(super) async fn render(
+    state: &AppState,
+    reader: &Reader,
+    slug: &str,
+    id: i64,
+    entry: EntryState,
+) -> Result<ShowPage> {
+    let state = state.clone();
+    let reader = reader.clone();
+    let (build, run) = reader_build_and_run(&state, &reader, slug, id).await?;
     let revision = state.store.revision_by_id(run.revision_id).await?;
     let history = state.store.reading_history(run.id).await?;
     let analysis_readings = analysis_readings(&state.store, run.id).await?;
@@ -182,8 +215,11 @@ pub(super) async fn show(
             .map(|o| o.title().to_string())
             .unwrap_or_default(),
         failed_part_title,
-        error: query.error.chars().take(200).collect(),
-        error_channel: query.channel,
+        error: entry.error,
+        error_channel: entry.channel,
+        kept_value: entry.kept_value,
+        kept_time: entry.kept_time,
+        notice: entry.notice,
         analysis,
         attachments: crate::web::attachments::views_of_run(
             &state,

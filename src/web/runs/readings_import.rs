@@ -16,6 +16,7 @@ use serde::{Deserializer, Serialize};
 use serde_json::Value;
 
 use crate::channel::Channel;
+use crate::checks::readings::ReadingBounds;
 use crate::parts::Parts;
 use crate::store::{NewReading, ReadingsImport, StoreError};
 use crate::web::AppError;
@@ -83,9 +84,10 @@ impl From<StoreError> for ImportError {
     }
 }
 
-/// The checks of one run: its revision's parts decide which part temperatures exist.
+/// The checks of one run, as a script or an import sends it (SI units, frequency in Hz, times
+/// within a week of the start).
 pub struct RowCheck<'a> {
-    parts: &'a Parts,
+    bounds: ReadingBounds<'a>,
 }
 
 /// The column at fault (none when the row as a whole is) and what is wrong with it.
@@ -97,31 +99,14 @@ fn refusal(column: &'static str, message: impl Into<String>) -> Refusal {
 
 impl<'a> RowCheck<'a> {
     pub fn new(parts: &'a Parts) -> RowCheck<'a> {
-        RowCheck { parts }
+        RowCheck {
+            bounds: ReadingBounds::script(parts),
+        }
     }
 
     /// A channel of this run's revision.
     pub fn channel(&self, name: &str) -> Result<Channel, String> {
-        // Error messages quote the name; a long one is no channel and is not echoed back.
-        if name.len() > MAX_ECHO_CHARS {
-            return Err("unknown channel (the name is far too long)".into());
-        }
-        let channel: Channel = name
-            .parse()
-            .map_err(|e: crate::channel::UnknownChannel| e.to_string())?;
-        if let Channel::PartTemp { role, index } = channel {
-            let quantity = self.parts.quantity(role);
-            let role = role.title().to_lowercase();
-            if quantity == 0 {
-                return Err(format!("this revision has no {role}"));
-            }
-            if let Some(n) = index.filter(|n| *n > quantity) {
-                return Err(format!(
-                    "this revision has {quantity} of {role}; there is no number {n}"
-                ));
-            }
-        }
-        Ok(channel)
+        self.bounds.channel(name)
     }
 
     /// Checks a row given as text (a CSV record), column by column in order.
@@ -132,10 +117,10 @@ impl<'a> RowCheck<'a> {
                 .map_err(|_| refusal(column, "not a number"))
         };
         let t_s = number("t_s", t_s)?;
-        check_t_s(t_s)?;
+        let t_s = self.bounds.t_s(t_s).map_err(|m| refusal("t_s", m))?;
         let channel = self.channel(channel).map_err(|m| refusal("channel", m))?;
         let value = number("value", value)?;
-        reading(t_s, channel, value)
+        self.reading(t_s, channel, value)
     }
 
     /// Checks a row given as a JSON object, column by column in order.
@@ -162,47 +147,29 @@ impl<'a> RowCheck<'a> {
             Some(_) => Err(refusal(column, "not a number")),
         };
         let t_s = number("t_s")?;
-        check_t_s(t_s)?;
+        let t_s = self.bounds.t_s(t_s).map_err(|m| refusal("t_s", m))?;
         let channel = match object.get("channel") {
             None | Some(Value::Null) => return Err(refusal("channel", "missing")),
             Some(Value::String(name)) => self.channel(name).map_err(|m| refusal("channel", m))?,
             Some(_) => return Err(refusal("channel", "must be a channel name (a string)")),
         };
         let value = number("value")?;
-        reading(t_s, channel, value)
+        self.reading(t_s, channel, value)
     }
 }
 
-fn check_t_s(t_s: f64) -> Result<(), Refusal> {
-    if !t_s.is_finite() {
-        return Err(refusal("t_s", "must be a finite number"));
+impl RowCheck<'_> {
+    fn reading(&self, t_s: f64, channel: Channel, value: f64) -> Result<NewReading, Refusal> {
+        let value = self
+            .bounds
+            .value(channel, value)
+            .map_err(|m| refusal("value", m))?;
+        Ok(NewReading {
+            t_s,
+            channel: channel.to_string(),
+            value,
+        })
     }
-    if t_s < 0.0 {
-        return Err(refusal(
-            "t_s",
-            format!("must be 0 or more (seconds since the run started), got {t_s}"),
-        ));
-    }
-    Ok(())
-}
-
-fn reading(t_s: f64, channel: Channel, value: f64) -> Result<NewReading, Refusal> {
-    if !value.is_finite() {
-        return Err(refusal("value", "must be a finite number"));
-    }
-    let (low, high) = channel.plausible_range();
-    if !(low..=high).contains(&value) {
-        let unit = channel.quantity().unit();
-        return Err(refusal(
-            "value",
-            format!("{value} {unit} is outside the plausible range {low} to {high} {unit}"),
-        ));
-    }
-    Ok(NewReading {
-        t_s,
-        channel: channel.to_string(),
-        value,
-    })
 }
 
 /// Checks a JSON array of rows, one element at a time (no tree of the whole body is built).
