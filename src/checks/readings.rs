@@ -2,14 +2,14 @@
 //! a channel the revision has, a time within the run, and a value within the channel's
 //! plausible range, said in the user's units.
 
+use crate::analysis::sent_entry::check_elapsed_s;
 use crate::channel::{Channel, Quantity, UnknownChannel};
 use crate::parts::Parts;
 use crate::units::{Unit, eng, parse_value};
 
-/// The latest time a script or an import may give: a week after the start. A bench run of a
-/// hand-built heater lasts minutes to hours; a week allows a long soak test and refuses a time
-/// sent in milliseconds or as a Unix timestamp.
-pub const MAX_SCRIPT_ELAPSED_S: f64 = 7.0 * 86_400.0;
+/// The latest time a script or an import may give: a week after the start (a long soak test
+/// still imports; a time sent in milliseconds or as a Unix timestamp does not).
+pub use crate::analysis::sent_entry::MAX_ELAPSED_S as MAX_SCRIPT_ELAPSED_S;
 
 /// Lowest frequency accepted: no self-oscillating driver of this kind runs below a few kHz
 /// (common practice), so a smaller number is a value in kHz sent as Hz.
@@ -79,6 +79,9 @@ impl<'a> ReadingBounds<'a> {
 
     /// Seconds since the run started: finite, 0 or more, no later than the bound.
     pub fn t_s(&self, t_s: f64) -> Result<f64, String> {
+        if !self.from_page {
+            return check_elapsed_s(t_s);
+        }
         if !t_s.is_finite() {
             return Err("must be a finite number".into());
         }
@@ -88,18 +91,11 @@ impl<'a> ReadingBounds<'a> {
             ));
         }
         if t_s > self.max_t_s {
-            return Err(if self.from_page {
-                format!(
-                    "{} is later than now: the run started {} ago",
-                    elapsed_words(t_s),
-                    elapsed_words(self.max_t_s)
-                )
-            } else {
-                format!(
-                    "{t_s} s is more than a week after the start; send seconds since the run \
-                     started"
-                )
-            });
+            return Err(format!(
+                "{} is later than now: the run started {} ago",
+                elapsed_words(t_s),
+                elapsed_words(self.max_t_s)
+            ));
         }
         Ok(t_s)
     }

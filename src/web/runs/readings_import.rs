@@ -15,6 +15,7 @@ use serde::de::{DeserializeSeed, IgnoredAny, SeqAccess, Visitor};
 use serde::{Deserializer, Serialize};
 use serde_json::Value;
 
+use crate::analysis::sent_entry::check_sender_id;
 use crate::channel::Channel;
 use crate::checks::readings::ReadingBounds;
 use crate::parts::Parts;
@@ -27,6 +28,8 @@ const BATCH_ROWS: usize = 500;
 const MAX_RECORD_BYTES: usize = 64 * 1024;
 const MAX_FIELDS: usize = 64;
 pub const COLUMNS: [&str; 3] = ["t_s", "channel", "value"];
+/// A JSON row may also carry the id its sender made (see `analysis::sent_entry`).
+const ID_COLUMN: &str = "id";
 /// Input longer than this is not quoted back in an error.
 const MAX_ECHO_CHARS: usize = 64;
 
@@ -131,7 +134,10 @@ impl<'a> RowCheck<'a> {
                 r#"must be an object {"t_s", "channel", "value"}"#.into(),
             ));
         };
-        if let Some(unknown) = object.keys().find(|k| !COLUMNS.contains(&k.as_str())) {
+        if let Some(unknown) = object
+            .keys()
+            .find(|k| !COLUMNS.contains(&k.as_str()) && k.as_str() != ID_COLUMN)
+        {
             if unknown.len() > MAX_ECHO_CHARS {
                 return Err((None, "an unknown column".into()));
             }
@@ -154,7 +160,17 @@ impl<'a> RowCheck<'a> {
             Some(_) => return Err(refusal("channel", "must be a channel name (a string)")),
         };
         let value = number("value")?;
-        self.reading(t_s, channel, value)
+        let client_id = match object.get(ID_COLUMN) {
+            None | Some(Value::Null) => None,
+            Some(Value::String(id)) => {
+                Some(check_sender_id(id).map_err(|m| refusal(ID_COLUMN, m))?)
+            }
+            Some(_) => return Err(refusal(ID_COLUMN, "must be a string")),
+        };
+        Ok(NewReading {
+            client_id,
+            ..self.reading(t_s, channel, value)?
+        })
     }
 }
 
@@ -168,6 +184,7 @@ impl RowCheck<'_> {
             t_s,
             channel: channel.to_string(),
             value,
+            client_id: None,
         })
     }
 }
@@ -181,7 +198,10 @@ pub fn json_rows(body: &[u8], check: &RowCheck) -> Result<Vec<NewReading>, Impor
         .map_err(|e| {
             AppError::invalid(
                 "body",
-                format!("send a JSON array of {{\"t_s\", \"channel\", \"value\"}} rows: {e}"),
+                format!(
+                    "send a JSON array of {{\"t_s\", \"channel\", \"value\"}} rows \
+                     (each with an optional \"id\"): {e}"
+                ),
             )
         })?;
     rows.map_err(ImportError::Row)
