@@ -104,3 +104,25 @@ mod tests {
         assert!(!is_reserved_slug("new-coil"));
     }
 }
+
+/// Why something is voided: required, one line, so the history says why.
+pub fn void_reason(text: &str) -> Result<String, String> {
+    let reason = line(text, MAX_LINE_CHARS)?;
+    if reason.is_empty() {
+        return Err("say why (it stays in the history)".into());
+    }
+    Ok(reason)
+}
+
+#[cfg(test)]
+mod void_tests {
+    use super::*;
+
+    #[test]
+    fn a_void_needs_a_reason() {
+        assert_eq!(void_reason(" typo ").unwrap(), "typo");
+        assert!(void_reason("  ").is_err());
+        assert!(void_reason("a\u{202E}b").is_err());
+        assert!(void_reason(&"x".repeat(201)).is_err());
+    }
+}

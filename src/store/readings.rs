@@ -141,7 +141,7 @@ impl Store {
 
     /// Voids the current value of a reading with a reason (it leaves every analysis, chart and
     /// count and stays in the history and the export), or restores a voided one. Recorded in the
-    /// audit trail with the reason.
+    /// audit trail with the reason; asking again for the state it is in changes nothing.
     pub async fn set_reading_void(
         &self,
         run_id: RunId,
@@ -166,12 +166,8 @@ impl Store {
             ));
         }
         let (action, detail) = match (void, voided_at) {
-            (Some(_), Some(_)) => {
-                return Err(StoreError::Conflict(
-                    "this reading is already voided".into(),
-                ));
-            }
-            (None, None) => return Err(StoreError::Conflict("this reading is not voided".into())),
+            // Already as asked (a resent request): nothing to change or record.
+            (Some(_), Some(_)) | (None, None) => return Ok(()),
             (Some(reason), None) => {
                 sqlx::query(
                     "UPDATE readings SET voided_at = ?, voided_by = ?, void_reason = ? WHERE id = ?",

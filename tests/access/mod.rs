@@ -415,6 +415,8 @@ pub fn payload(route: &RouteInfo) -> Result<Payload, String> {
         }
         "/builds/{slug}/runs/{id}/readings/{reading}/correct" => form(&[("value", "24.2")]),
         "/builds/{slug}/runs/{id}/finish" => form(&[("outcome", "completed")]),
+        "/builds/{slug}/runs/{id}/readings/{reading}/void" => form(&[("reason", "probe slipped")]),
+        "/builds/{slug}/runs/{id}/readings/{reading}/restore" => form(&[]),
         "/builds/{slug}/runs/{id}/attachments" => Payload::Multipart(multipart(
             &[("kind", "scope"), ("caption", "gate")],
             "gate.png",
@@ -442,6 +444,10 @@ pub fn payload(route: &RouteInfo) -> Result<Payload, String> {
             {"t_s": 60, "channel": "supply_voltage", "value": 24.0}
         ])),
         "/api/v1/runs/{id}/finish" => json(serde_json::json!({"outcome": "completed"})),
+        "/api/v1/runs/{id}/readings/{reading}/void" => {
+            json(serde_json::json!({"reason": "probe slipped"}))
+        }
+        "/api/v1/runs/{id}/readings/{reading}/restore" => json(serde_json::json!({})),
         "/api/v1/builds/{slug}/shares" => json(serde_json::json!({"label": "matrix"})),
         _ => {
             return Err(format!(

@@ -167,6 +167,55 @@ pub(super) async fn correct_reading(
 }
 
 #[derive(Deserialize)]
+pub(super) struct VoidForm {
+    #[serde(default)]
+    reason: String,
+}
+
+/// Voids a wrong reading with a reason: it leaves the charts, the fit and the flags, and stays
+/// in the history and the export.
+pub(super) async fn void_reading(
+    State(state): State<AppState>,
+    Editor(user): Editor,
+    Path((slug, id, reading)): Path<(String, i64, i64)>,
+    Form(form): Form<VoidForm>,
+) -> Result<Response> {
+    let (_, run) = build_and_run(&state, &slug, id).await?;
+    let reason = match checks::text::void_reason(&form.reason) {
+        Ok(reason) => reason,
+        Err(message) => {
+            let message = format!("void: {message}");
+            let kept = (form.reason.as_str(), "");
+            return refuse(&state, user, (&slug, id), "void", kept, &message).await;
+        }
+    };
+    state
+        .store
+        .set_reading_void(
+            run.id,
+            ReadingId(reading),
+            Some(&reason),
+            Some(user.user_id),
+        )
+        .await?;
+    Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#readings")).into_response())
+}
+
+/// Puts a voided reading back.
+pub(super) async fn restore_reading(
+    State(state): State<AppState>,
+    Editor(user): Editor,
+    Path((slug, id, reading)): Path<(String, i64, i64)>,
+) -> Result<Response> {
+    let (_, run) = build_and_run(&state, &slug, id).await?;
+    state
+        .store
+        .set_reading_void(run.id, ReadingId(reading), None, Some(user.user_id))
+        .await?;
+    Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#readings")).into_response())
+}
+
+#[derive(Deserialize)]
 pub(super) struct FinishForm {
     outcome: String,
     #[serde(default)]

@@ -29,6 +29,16 @@ pub fn router() -> Routes {
             entry::correct_reading,
         )
         .post(
+            "/builds/{slug}/runs/{id}/readings/{reading}/void",
+            Access::Editor,
+            entry::void_reading,
+        )
+        .post(
+            "/builds/{slug}/runs/{id}/readings/{reading}/restore",
+            Access::Editor,
+            entry::restore_reading,
+        )
+        .post(
             "/builds/{slug}/runs/{id}/finish",
             Access::Editor,
             entry::finish,

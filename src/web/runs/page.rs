@@ -63,6 +63,9 @@ struct ReadingLine {
     title: String,
     value: String,
     corrected_from: Vec<String>,
+    /// Why it was voided; empty for a reading in use.
+    void_reason: String,
+    voided: bool,
 }
 
 /// What the entry forms show after a post: a message beside the refused field with what was
@@ -152,6 +155,8 @@ pub(super) async fn render(
                 title: titles(&r.channel),
                 value: format_reading(&r.channel, r.value),
                 corrected_from,
+                void_reason: r.void_reason.clone(),
+                voided: r.voided_at.is_some(),
             }
         })
         .collect();
@@ -174,7 +179,7 @@ pub(super) async fn render(
             last: current
                 .iter()
                 .rev()
-                .find(|r| r.channel == channel.to_string())
+                .find(|r| r.channel == channel.to_string() && r.voided_at.is_none())
                 .map(|r| format_reading(&r.channel, r.value))
                 .unwrap_or_default(),
         })
