@@ -347,6 +347,7 @@ pub fn fill(path: &str, world: &World, principal: Principal) -> Result<String, S
             ("readings", "{reading}") => world.reading_id.to_string(),
             ("attachments", "{attachment}") => world.attachment_id.to_string(),
             ("export", "{file}") => "runs.csv".into(),
+            ("users", "{user}") => "matrix-admin".into(),
             _ => {
                 return Err(format!(
                     "no fixture for {segment} (after /{before}) in {path}: add one to fill() \
@@ -395,6 +396,8 @@ pub fn payload(route: &RouteInfo) -> Result<Payload, String> {
             ("repeat", "a new matrix password"),
         ]),
         "/admin/users" => form(&[("name", "matrix-new"), ("role", "viewer")]),
+        // The admin keeps its own role: allowed, and nothing locks the matrix out.
+        "/admin/users/{user}/access" => form(&[("role", "admin")]),
         "/builds" => form(&[("name", "Matrix build")]),
         "/builds/{slug}/revisions" => form(&[
             ("from", "r1"),
