@@ -58,7 +58,7 @@ async fn bench() -> (TestApp, Session, String, i64) {
     .await;
     assert_eq!(run.status, StatusCode::CREATED, "{}", run.body);
     let id = run.json()["id"].as_i64().unwrap();
-    app.store.backdate_run(RunId(id), 600).await.unwrap();
+    app.store.backdate_run_start(RunId(id), 600).await.unwrap();
     (app, session, token, id)
 }
 
@@ -188,11 +188,7 @@ async fn a_correction_fixes_the_time_as_well_as_the_value() {
         .post_form(
             &format!("/builds/bench-heater/runs/{id}/readings"),
             &session,
-            &[
-                ("channel", "temp.tank_capacitor"),
-                ("value", "41"),
-                ("time", "2:00"),
-            ],
+            &[("value.temp.tank_capacitor", "41"), ("time", "2:00")],
         )
         .await;
     assert_eq!(added.status, StatusCode::SEE_OTHER, "{}", added.body);
@@ -302,14 +298,14 @@ async fn the_same_bad_reading_gets_the_same_answer_from_every_door() {
     ];
     let before = app.store.table_fingerprints(&[]).await.unwrap();
     for bad in &cases {
-        // The run page (the time typed in seconds).
+        // The run page's set form (the time typed in seconds).
+        let value_field = format!("value.{}", bad.channel);
         let page = app
             .post_form(
                 &format!("/builds/bench-heater/runs/{id}/readings"),
                 &session,
                 &[
-                    ("channel", bad.channel),
-                    ("value", bad.value),
+                    (value_field.as_str(), bad.value),
                     ("time", &format!("{} s", bad.t_s)),
                 ],
             )
@@ -320,13 +316,20 @@ async fn the_same_bad_reading_gets_the_same_answer_from_every_door() {
             "page: {}",
             bad.what
         );
-        let page_message = page.select_texts("#entry-error").join(" ");
-        assert_eq!(
-            page_message.starts_with("time:"),
-            bad.field == "t_s",
-            "page: {}: {page_message}",
-            bad.what
-        );
+        // The page marks the field: the time, the set (a channel it has no field for), or
+        // the value's own field.
+        let (page_field, page_message) = [
+            ("t_s", "#time-error"),
+            ("channel", "#set-error"),
+            ("value", "#entry-set .entry p.error"),
+        ]
+        .into_iter()
+        .find_map(|(field, selector)| {
+            let texts = page.select_texts(selector);
+            (!texts.is_empty()).then(|| (field, texts.join(" ")))
+        })
+        .unwrap_or_else(|| panic!("page: {}: no field marked", bad.what));
+        assert_eq!(page_field, bad.field, "page: {}: {page_message}", bad.what);
         // The JSON API (numbers as JSON numbers where they are numbers).
         let number = |text: &str| {
             text.parse::<f64>()
@@ -407,14 +410,15 @@ async fn frequencies_are_hz_from_scripts_and_a_khz_number_is_refused() {
             .post_form(
                 &format!("/builds/bench-heater/runs/{id}/readings"),
                 &session,
-                &[("channel", "frequency"), ("value", typed)],
+                &[("value.frequency", typed)],
             )
             .await;
-        assert_eq!(page.status, StatusCode::OK, "{typed}: {}", page.body);
-        let notice = page.select_texts("#entry-notice").join(" ");
+        assert_eq!(page.status, StatusCode::SEE_OTHER, "{typed}: {}", page.body);
+        let shown = app.get(&page.location(), Some(&session)).await;
+        let confirm = shown.select_texts("#entry-confirm").join(" ");
         assert!(
-            notice.contains("152 kHz") && notice.ends_with(&format!("read as {unit}.")),
-            "{notice}"
+            confirm.ends_with(&format!("read as {unit}")),
+            "{typed}: {confirm}"
         );
     }
 }

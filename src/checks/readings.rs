@@ -5,7 +5,7 @@
 use crate::analysis::sent_entry::check_elapsed_s;
 use crate::channel::{Channel, Quantity, UnknownChannel};
 use crate::parts::Parts;
-use crate::units::{Unit, eng, parse_value};
+use crate::units::{Unit, eng, parse_elapsed_s, parse_value};
 
 /// The latest time a script or an import may give: a week after the start (a long soak test
 /// still imports; a time sent in milliseconds or as a Unix timestamp does not).
@@ -77,27 +77,24 @@ impl<'a> ReadingBounds<'a> {
         Ok(channel)
     }
 
+    /// The latest time a reading may carry: the time elapsed so far (page) or a week (scripts).
+    pub fn max_t_s(&self) -> f64 {
+        self.max_t_s
+    }
+
     /// Seconds since the run started: finite, 0 or more, no later than the bound.
     pub fn t_s(&self, t_s: f64) -> Result<f64, String> {
-        if !self.from_page {
-            return check_elapsed_s(t_s);
+        if self.from_page {
+            page_t_s(t_s, self.max_t_s)
+        } else {
+            check_elapsed_s(t_s)
         }
-        if !t_s.is_finite() {
-            return Err("must be a finite number".into());
-        }
-        if t_s < 0.0 {
-            return Err(format!(
-                "must be 0 or more (seconds since the run started), got {t_s}"
-            ));
-        }
-        if t_s > self.max_t_s {
-            return Err(format!(
-                "{} is later than now: the run started {} ago",
-                elapsed_words(t_s),
-                elapsed_words(self.max_t_s)
-            ));
-        }
-        Ok(t_s)
+    }
+
+    /// A time typed for a reading (`2:30`, `150 s`), within the bound.
+    pub fn typed_time(&self, text: &str) -> Result<f64, String> {
+        let t_s = parse_typed_time(text)?;
+        self.t_s(t_s)
     }
 
     /// A value in SI units for a channel: finite and within its plausible range.
@@ -132,6 +129,44 @@ impl<'a> ReadingBounds<'a> {
         }
         Ok(value)
     }
+}
+
+/// A time since the start, on the page: finite, 0 or more, no later than the time run so far.
+pub fn page_t_s(t_s: f64, elapsed_so_far_s: f64) -> Result<f64, String> {
+    if !t_s.is_finite() {
+        return Err("must be a finite number".into());
+    }
+    if t_s < 0.0 {
+        return Err(format!(
+            "must be 0 or more (seconds since the run started), got {t_s}"
+        ));
+    }
+    // A second of slack: a typed time is whole seconds and the start is stored to the second.
+    if t_s > elapsed_so_far_s.max(0.0) + 1.0 {
+        return Err(format!(
+            "{} is later than now: the run started {} ago",
+            elapsed_words(t_s),
+            elapsed_words(elapsed_so_far_s)
+        ));
+    }
+    Ok(t_s)
+}
+
+/// A time typed on the page (`2:30`, `150 s`), not yet bounded.
+fn parse_typed_time(text: &str) -> Result<f64, String> {
+    if text.trim().starts_with('-') {
+        return Err(format!(
+            "{} is before the run started",
+            text.trim().chars().take(MAX_ECHO_CHARS).collect::<String>()
+        ));
+    }
+    parse_elapsed_s(text).map_err(|_| "use 2:30 or 150 s".to_string())
+}
+
+/// A time typed on the page for anything of the run (a reading, an event mark): within the run
+/// so far.
+pub fn page_typed_time(text: &str, elapsed_so_far_s: f64) -> Result<f64, String> {
+    page_t_s(parse_typed_time(text)?, elapsed_so_far_s)
 }
 
 /// The unit a channel's values are typed and shown in.

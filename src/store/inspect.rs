@@ -78,11 +78,11 @@ impl Store {
     }
 
     /// Moves a run's start `seconds` into the past, as if it had been running that long (the
-    /// page bounds typed times by the time elapsed since the start).
-    pub async fn backdate_run(&self, run: super::RunId, seconds: i64) -> StoreResult<()> {
+    /// time since the start of each reading is counted from this stored time).
+    pub async fn backdate_run_start(&self, run_id: super::RunId, seconds: i64) -> StoreResult<()> {
         sqlx::query("UPDATE runs SET started_at = started_at - ? WHERE id = ?")
             .bind(seconds)
-            .bind(run)
+            .bind(run_id)
             .execute(&self.pool)
             .await?;
         Ok(())

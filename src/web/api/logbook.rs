@@ -14,6 +14,7 @@ use serde::{Deserialize, Serialize};
 use crate::analysis::{OperatingPoint, validate};
 use crate::checks::{self, runs::RunStart};
 use crate::parts::Parts;
+use crate::run_feed::RunChange;
 use crate::store::{
     Build, NewBuild, NewRun, Outcome, Revision, Run, RunFinish, RunId, revision_number,
 };
@@ -22,7 +23,7 @@ use crate::web::api::ApiJson;
 use crate::web::error::ErrorBody;
 use crate::web::routes::{Access, Routes};
 use crate::web::runs::lookup::default_channels;
-use crate::web::runs::page::{EntryState, refused};
+use crate::web::runs::page::{Submitted, refused};
 use crate::web::runs::readings_import::{ImportError, RowCheck, import_csv, json_rows};
 use crate::web::{AppError, AppState, Result};
 
@@ -498,6 +499,7 @@ async fn finish_run(
         )
         .await?;
     crate::web::runs::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
+    state.run_feeds.notify(run.id, RunChange::Finished);
     let run = state.store.run_by_id(run.id).await?;
     Ok(Json(run_json(&state, &build, run).await?))
 }
@@ -587,6 +589,9 @@ async fn add_readings(
     }
     let already_stored = import.already_stored();
     let inserted = import.commit().await?;
+    if inserted > 0 {
+        state.run_feeds.notify(run.id, RunChange::Readings);
+    }
     tracing::info!(inserted, already_stored, "readings imported");
     Ok((
         StatusCode::CREATED,
@@ -626,6 +631,7 @@ async fn upload_csv(
         match import_csv(field, CSV_LIMIT_BYTES, &check, &mut import).await {
             Ok(()) => {
                 let inserted = import.commit().await?;
+                state.run_feeds.notify(run.id, RunChange::Readings);
                 tracing::info!(inserted, "readings imported from the run page");
                 return Ok(
                     Redirect::to(&format!("/builds/{slug}/runs/{id}#readings")).into_response()
@@ -642,10 +648,10 @@ async fn upload_csv(
     };
     // Nothing of a refused file is kept: the import rolls back before the page is shown again.
     drop(import);
-    let entry = EntryState {
+    let submitted = Submitted {
         error: refusal,
-        channel: "csv".into(),
-        ..EntryState::default()
+        error_channel: "csv".into(),
+        ..Submitted::default()
     };
-    refused(&state, user, &slug, id, entry).await
+    refused(&state, user, &slug, id, submitted).await
 }

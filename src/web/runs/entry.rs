@@ -1,5 +1,5 @@
-//! Logging at the bench: a reading stamped with the time since the start, a correction that
-//! keeps the old value, and the end of the run.
+//! Corrections that keep the old value (its time as well), voids and restores with a reason,
+//! and the end of the run (sets of readings and marks are in `set`).
 
 use axum::Form;
 use axum::extract::{Path, State};
@@ -7,44 +7,29 @@ use axum::response::{IntoResponse, Redirect, Response};
 use serde::Deserialize;
 
 use crate::checks;
-use crate::store::{NewReading, Outcome, ReadingId, RunFinish, now_unix_s};
-use crate::units::parse_elapsed_s;
+use crate::checks::readings::{ReadingBounds, typed_value};
+use crate::run_feed::RunChange;
+use crate::store::{Outcome, ReadingId, RunFinish, SessionUser, now_unix_s};
 use crate::web::accounts::session::Editor;
 use crate::web::{AppError, AppState, Result};
 
 use super::lookup::build_and_run;
-use super::page::{EntryState, refused, render};
-use crate::checks::readings::{ReadingBounds, typed_value};
-use crate::store::SessionUser;
-use crate::units::{Unit, eng};
-use crate::web::reader::Reader;
-use crate::web::view::minutes_seconds;
+use super::page::{Submitted, refused};
 
-#[derive(Deserialize)]
-pub(super) struct ReadingForm {
-    channel: String,
-    value: String,
-    #[serde(default)]
-    time: String,
-}
-
-/// The run page again with a message beside the field (status 422, nothing saved).
+/// The run page again with a message beside the form (status 422, nothing saved).
 async fn refuse(
     state: &AppState,
     user: SessionUser,
     place: (&str, i64),
-    channel: &str,
-    kept: (&str, &str),
+    form: &str,
     message: &str,
 ) -> Result<Response> {
-    let entry = EntryState {
+    let submitted = Submitted {
         error: message.to_string(),
-        channel: channel.chars().take(64).collect(),
-        kept_value: kept.0.chars().take(64).collect(),
-        kept_time: kept.1.chars().take(64).collect(),
-        notice: String::new(),
+        error_channel: form.to_string(),
+        ..Submitted::default()
     };
-    refused(state, user, place.0, place.1, entry).await
+    refused(state, user, place.0, place.1, submitted).await
 }
 
 /// A time typed at the bench: empty means `default_s`; otherwise within the run so far.
@@ -56,65 +41,7 @@ fn typed_time(
     if text.trim().is_empty() {
         return Ok(default_s.max(0.0));
     }
-    let t_s = parse_elapsed_s(text).map_err(|_| "time: use 2:30 or 150 s".to_string())?;
-    bounds.t_s(t_s).map_err(|m| format!("time: {m}"))
-}
-
-pub(super) async fn add_reading(
-    State(state): State<AppState>,
-    Editor(user): Editor,
-    Path((slug, id)): Path<(String, i64)>,
-    Form(form): Form<ReadingForm>,
-) -> Result<Response> {
-    let (_, run) = build_and_run(&state, &slug, id).await?;
-    if !run.is_open() {
-        return Err(AppError::Conflict(
-            "this run is finished; readings can no longer be added".into(),
-        ));
-    }
-    let revision = state.store.revision_by_id(run.revision_id).await?;
-    let elapsed_s = (now_unix_s() - run.started_at) as f64;
-    let bounds = ReadingBounds::page(&revision.parts, elapsed_s);
-    let kept = (form.value.as_str(), form.time.as_str());
-    let checked = bounds.channel(&form.channel).and_then(|channel| {
-        let typed = typed_value(channel, &form.value)?;
-        let value = bounds.value(channel, typed.value)?;
-        let t_s = typed_time(&form.time, &bounds, elapsed_s)?;
-        Ok((channel, value, t_s, typed.assumed))
-    });
-    let (channel, value, t_s, assumed) = match checked {
-        Ok(checked) => checked,
-        Err(message) => {
-            return refuse(&state, user, (&slug, id), &form.channel, kept, &message).await;
-        }
-    };
-    state
-        .store
-        .add_readings(
-            run.id,
-            &[NewReading {
-                t_s,
-                channel: channel.to_string(),
-                value,
-                client_id: None,
-            }],
-            Some(user.user_id),
-        )
-        .await?;
-    if let Some(unit) = assumed {
-        // Say which unit a bare frequency was taken in.
-        let entry = EntryState {
-            notice: format!(
-                "Logged {} at {}: the number was read as {unit}.",
-                eng(value, Unit::Hertz),
-                minutes_seconds(t_s)
-            ),
-            ..EntryState::default()
-        };
-        let page = render(&state, &Reader::User(user), &slug, id, entry).await?;
-        return Ok(page.into_response());
-    }
-    Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#entry-{}", channel)).into_response())
+    bounds.typed_time(text).map_err(|m| format!("time: {m}"))
 }
 
 #[derive(Deserialize)]
@@ -149,8 +76,7 @@ pub(super) async fn correct_reading(
         Ok(checked) => checked,
         Err(message) => {
             let message = format!("correction: {message}");
-            let kept = (form.value.as_str(), form.time.as_str());
-            return refuse(&state, user, (&slug, id), &old.channel, kept, &message).await;
+            return refuse(&state, user, (&slug, id), &old.channel, &message).await;
         }
     };
     state
@@ -163,6 +89,7 @@ pub(super) async fn correct_reading(
             Some(user.user_id),
         )
         .await?;
+    state.run_feeds.notify(run.id, RunChange::Readings);
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#readings")).into_response())
 }
 
@@ -185,8 +112,7 @@ pub(super) async fn void_reading(
         Ok(reason) => reason,
         Err(message) => {
             let message = format!("void: {message}");
-            let kept = (form.reason.as_str(), "");
-            return refuse(&state, user, (&slug, id), "void", kept, &message).await;
+            return refuse(&state, user, (&slug, id), "void", &message).await;
         }
     };
     state
@@ -198,6 +124,7 @@ pub(super) async fn void_reading(
             Some(user.user_id),
         )
         .await?;
+    state.run_feeds.notify(run.id, RunChange::Readings);
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#readings")).into_response())
 }
 
@@ -212,6 +139,7 @@ pub(super) async fn restore_reading(
         .store
         .set_reading_void(run.id, ReadingId(reading), None, Some(user.user_id))
         .await?;
+    state.run_feeds.notify(run.id, RunChange::Readings);
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#readings")).into_response())
 }
 
@@ -241,7 +169,7 @@ pub(super) async fn finish(
         Ok(checked) => checked,
         Err(refusal) => {
             let (_, message) = refusal.first().unwrap_or(("finish", "refused"));
-            return refuse(&state, user, (&slug, id), "finish", ("", ""), message).await;
+            return refuse(&state, user, (&slug, id), "finish", message).await;
         }
     };
     let outcome = Outcome::parse(checked.outcome).ok_or(AppError::NotFound)?;
@@ -259,5 +187,6 @@ pub(super) async fn finish(
         )
         .await?;
     crate::web::runs::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
+    state.run_feeds.notify(run.id, RunChange::Finished);
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}")).into_response())
 }

@@ -7,9 +7,6 @@ use crate::store::{Build, Run, RunId};
 use crate::web::reader::Reader;
 use crate::web::{AppError, AppState, Result};
 
-/// Readings shown at once on an open run's page, newest first; the rest fold away.
-pub(super) const RECENT_READINGS: usize = 20;
-
 /// Every channel a revision can log.
 pub fn channels_of(parts: &Parts) -> Vec<Channel> {
     crate::checks::runs::loggable_channels(parts)
