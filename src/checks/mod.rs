@@ -3,6 +3,7 @@
 //! Nothing here touches the database or the web framework.
 
 pub mod accounts;
+pub mod builds;
 pub mod field;
 pub mod readings;
 pub mod runs;

@@ -160,19 +160,13 @@ async fn create_build(
     Editor(user): Editor,
     ApiJson(body): ApiJson<NewBuildBody>,
 ) -> Result<Response> {
-    let name = body.name.trim();
-    if name.is_empty() {
-        return Err(AppError::invalid("name", "give the build a name"));
-    }
-    too_long("name", name, 120)?;
-    too_long("purpose", &body.purpose, 4000)?;
-    too_long("notes", &body.notes, 20_000)?;
+    let checked = checks::builds::new_build(&body.name, &body.purpose, &body.notes)?;
     let build = state
         .store
         .create_build(&NewBuild {
-            name,
-            purpose: body.purpose.trim(),
-            notes: body.notes.trim(),
+            name: &checked.name,
+            purpose: &checked.purpose,
+            notes: &checked.notes,
             created_by: Some(user.user_id),
         })
         .await?;
