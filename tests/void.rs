@@ -100,6 +100,11 @@ async fn a_wrong_reading_is_voided_and_restored_and_leaves_the_analysis() {
     let wrong = history.iter().find(|r| r.value == 140.0).unwrap().id.0;
     let void_path = format!("/builds/bench-heater/runs/{id}/readings/{wrong}/void");
 
+    // The open run page, seen before the void (what it derives is kept until the run changes).
+    let run_page = format!("/builds/bench-heater/runs/{id}");
+    let seen = app.get(&run_page, Some(&session)).await;
+    assert_eq!(seen.select_texts("#reading-count"), vec!["11"]);
+
     // No reason: refused on the page, nothing changed.
     let before = app.store.table_fingerprints(&[]).await.unwrap();
     let refused = app
@@ -140,6 +145,11 @@ async fn a_wrong_reading_is_voided_and_restored_and_leaves_the_analysis() {
         .join(" ");
     assert!(row.contains("probe slipped"), "{row}");
     assert_eq!(page.count(&format!("#reading-{wrong} del.value")), 1);
+    assert_eq!(
+        page.select_texts("#reading-count"),
+        vec!["10"],
+        "the page no longer counts it"
+    );
     // The export keeps it, marked, with the reason.
     let document = app.store.export_build("bench-heater").await.unwrap();
     let kept = document.runs[0]

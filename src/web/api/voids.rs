@@ -6,6 +6,7 @@ use axum::extract::{Path, State};
 use serde::{Deserialize, Serialize};
 
 use crate::checks;
+use crate::run_feed::RunChange;
 use crate::store::{ReadingId, RunId};
 use crate::web::accounts::session::Editor;
 use crate::web::api::ApiJson;
@@ -57,6 +58,7 @@ async fn void_reading(
             Some(user.user_id),
         )
         .await?;
+    state.run_feeds.notify(run.id, RunChange::Readings);
     Ok(Json(VoidAnswer {
         reading,
         voided: true,
@@ -73,6 +75,7 @@ async fn restore_reading(
         .store
         .set_reading_void(run.id, ReadingId(reading), None, Some(user.user_id))
         .await?;
+    state.run_feeds.notify(run.id, RunChange::Readings);
     Ok(Json(VoidAnswer {
         reading,
         voided: false,
