@@ -112,6 +112,16 @@ pub struct ReadingRecord {
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub corrects: Option<usize>,
     pub entered_at: i64,
+    /// Set when the reading was voided: it stays in the record and leaves every analysis.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub voided: Option<Voided>,
+}
+
+/// When a reading was voided and why.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Voided {
+    pub at: i64,
+    pub reason: String,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -310,9 +320,10 @@ fn validate_run(
             ));
         }
         let old = &run.readings[k];
-        if old.channel != reading.channel || old.t_s != reading.t_s {
+        // A correction may fix the time as well as the value, never the channel.
+        if old.channel != reading.channel {
             return fail(format!(
-                "{here} corrects readings[{k}], a reading of another channel or time"
+                "{here} corrects readings[{k}], a reading of another channel"
             ));
         }
         if !corrected.insert(k) {
@@ -324,14 +335,14 @@ fn validate_run(
     Ok(())
 }
 
-/// A run's current values (replaced rows left out) in time order, as analysis reads them.
+/// A run's current values (replaced and voided rows left out) in time order, as analysis reads them.
 fn current_readings(run: &RunRecord) -> Vec<Reading> {
     let replaced: HashSet<usize> = run.readings.iter().filter_map(|r| r.corrects).collect();
     let mut readings: Vec<Reading> = run
         .readings
         .iter()
         .enumerate()
-        .filter(|(i, _)| !replaced.contains(i))
+        .filter(|(i, r)| !replaced.contains(i) && r.voided.is_none())
         .filter_map(|(_, r)| Some(Reading::new(r.t_s, r.channel.parse().ok()?, r.value)))
         .collect();
     // Stable: readings at the same time keep their entry order, as the store returns them.
@@ -388,6 +399,7 @@ mod tests {
             value,
             corrects,
             entered_at: 1_700_000_000,
+            voided: None,
         }
     }
 

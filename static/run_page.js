@@ -187,7 +187,8 @@
         save(queueKey, rest);
         if (status >= 200 && status < 300) {
           if (item.kind === "mark") say("marked \u201c" + answer.marked + "\u201d at " + answer.at);
-          else say("logged " + (answer.logged + answer.already_stored) + " at " + answer.at);
+          else say("logged " + (answer.logged + answer.already_stored) + " at " + answer.at +
+            (answer.frequency_read_as ? "; the frequency was read as " + answer.frequency_read_as : ""));
         } else {
           refuse(item, answer);
         }

@@ -678,16 +678,28 @@ async fn revision_and_run_bodies_are_checked_field_by_field() {
 
     let runs = "/api/v1/builds/bench-heater/runs";
     for (body, field) in [
-        (json!({"revision": "r1", "load": "lava"}), "load"),
+        (
+            json!({"revision": "r1", "load": "lava", "supply_voltage_v": 24.0}),
+            "load",
+        ),
         (json!({"revision": "r4", "load": "none"}), "revision"),
-        (json!({"revision": "r1", "load": "water"}), "water_mass_kg"),
+        (
+            json!({"revision": "r1", "load": "water", "supply_voltage_v": 24.0}),
+            "water_mass_kg",
+        ),
         (
             json!({"revision": "r1", "load": "none", "supply_voltage_v": -12.0}),
             "supply_voltage_v",
         ),
+        // A run cannot start without its supply setting.
         (
-            json!({"revision": "r1", "load": "none", "channels": ["temp.choke"]}),
-            "channels[0]",
+            json!({"revision": "r1", "load": "none"}),
+            "supply_voltage_v",
+        ),
+        (
+            json!({"revision": "r1", "load": "none", "supply_voltage_v": 24.0,
+                   "channels": ["temp.choke"]}),
+            "channels",
         ),
     ] {
         let page = post_json(&app, runs, &token, body.clone()).await;
@@ -716,12 +728,16 @@ async fn finishing_needs_a_known_failed_part() {
         json!({"outcome": "part_failed"}),
         json!({"outcome": "part_failed", "failed_part": "choke"}),
         json!({"outcome": "part_failed", "failed_part": "tank_capacitor.9"}),
-        json!({"outcome": "completed", "failed_part": "switch"}),
     ] {
         let page = post_json(&app, &path, &token, body.clone()).await;
         assert_eq!(page.status, StatusCode::UNPROCESSABLE_ENTITY, "{body}");
         assert_eq!(page.json()["field"], "failed_part", "{body}");
     }
+    // A failed part goes with the outcome "part failed": the outcome is what to fix.
+    let body = json!({"outcome": "completed", "failed_part": "switch"});
+    let page = post_json(&app, &path, &token, body.clone()).await;
+    assert_eq!(page.status, StatusCode::UNPROCESSABLE_ENTITY, "{body}");
+    assert_eq!(page.json()["field"], "outcome", "{body}");
     let page = post_json(&app, &path, &token, json!({"outcome": "exploded"})).await;
     assert_eq!(page.json()["field"], "outcome");
     let page = post_json(
@@ -763,7 +779,7 @@ async fn a_viewer_token_reads_but_every_write_is_refused() {
         (
             "/api/v1/builds/bench-heater/runs".into(),
             "application/json",
-            json!({"revision": "r1", "load": "none"}).to_string(),
+            json!({"revision": "r1", "load": "none", "supply_voltage_v": 24.0}).to_string(),
         ),
         (
             format!("/api/v1/runs/{id}/readings"),
@@ -900,17 +916,15 @@ async fn the_run_page_imports_a_csv_file() {
         "t_s,channel,value\n0,frequency,1e5\n1,frequency,fast\n",
     )
     .await;
-    assert_eq!(bad.status, StatusCode::SEE_OTHER);
-    assert!(
-        bad.location()
-            .starts_with(&format!("{page_path}?error=row%202%20%28line%203%29")),
-        "{}",
-        bad.location()
-    );
-    assert!(bad.location().contains("&channel=csv"));
+    // The run page again, with the message beside the upload and nothing in the address.
+    assert_eq!(bad.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert_eq!(app.count_rows("readings").await, 0);
-    let shown = app.get(&bad.location(), Some(&session)).await;
-    assert!(shown.select_texts("#entry-error")[0].contains("column value: not a number"));
+    let shown = bad;
+    let message = shown.select_texts("#entry-error").join(" ");
+    assert!(
+        message.contains("row 2 (line 3)") && message.contains("column value: not a number"),
+        "{message}"
+    );
     assert_eq!(
         shown.attr("#csv-file", "aria-invalid").as_deref(),
         Some("true")

@@ -44,6 +44,7 @@ async fn app_with_run() -> (TestApp, Session) {
             &session,
             &[
                 ("revision", "r1"),
+                ("supply_setting_v", "24"),
                 ("load", "none"),
                 ("channel", "supply_current"),
             ],
@@ -628,6 +629,7 @@ async fn pictures_are_for_signed_in_users_and_only_under_their_own_run() {
             &session,
             &[
                 ("revision", "r1"),
+                ("supply_setting_v", "24"),
                 ("load", "none"),
                 ("channel", "frequency"),
             ],

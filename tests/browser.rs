@@ -177,6 +177,13 @@ async fn phone_logs_a_whole_run_at_the_bench() {
     )
     .await;
     let run_path = client.current_url().await.unwrap().path().to_string();
+    // Half a minute into the run, so a time written down at 0:05 is in the past.
+    let run_id: i64 = run_path.rsplit('/').next().unwrap().parse().unwrap();
+    served
+        .store
+        .backdate_run_start(eddybench::store::RunId(run_id), 30)
+        .await
+        .unwrap();
 
     fill(&client, "#v-supply_current", "3.1").await;
     fill(&client, "#v-frequency", "104.2k").await;

@@ -230,11 +230,11 @@ async fn seed_bench_rig(store: &Store) -> String {
     // A typo in kHz fixed, then the fix itself corrected.
     let typo = store.reading_history(loaded).await.unwrap()[2].id;
     let fixed = store
-        .correct_reading(loaded, typo, 117.5e3, Some(user))
+        .correct_reading(loaded, typo, None, 117.5e3, Some(user))
         .await
         .unwrap();
     store
-        .correct_reading(loaded, fixed, 117.9e3, Some(user))
+        .correct_reading(loaded, fixed, None, 117.9e3, Some(user))
         .await
         .unwrap();
     logged_run(

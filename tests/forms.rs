@@ -270,6 +270,12 @@ async fn a_run_starts_and_takes_readings_with_units() {
             "{}",
             added.location()
         );
+        if channel == "frequency" {
+            // The confirmation says which unit the bare number was read in.
+            let page = app.get(&added.location(), Some(&session)).await;
+            let confirm = page.select_texts("#entry-confirm").join(" ");
+            assert!(confirm.contains("read as kHz"), "{confirm}");
+        }
     }
     let added = app
         .post_form(
@@ -340,6 +346,7 @@ async fn start_tank_run(app: &TestApp, session: &Session) -> String {
             session,
             &[
                 ("revision", "r1"),
+                ("supply_setting_v", "24"),
                 ("load", "none"),
                 ("channel", "temp.tank_capacitor"),
             ],
@@ -360,6 +367,10 @@ async fn a_bad_reading_is_refused_with_a_message_and_not_saved() {
         ("temp.tank_capacitor", "", ""),
         ("temp.tank_capacitor", "41", "yesterday"),
         ("temp.tank_capacitor", "41", "99:00"),
+        ("temp.tank_capacitor", "41", "1e12 s"),
+        ("temp.tank_capacitor", "NaN", ""),
+        ("temp.tank_capacitor", "1e308", ""),
+        ("temp.tank_capacitor.30", "41", ""),
         ("temp.nothing", "41", ""),
     ] {
         let name = format!("value.{channel}");
@@ -402,7 +413,20 @@ async fn finishing_a_run_records_the_failed_part_and_closes_entry() {
             &[("outcome", "part_failed")],
         )
         .await;
-    assert!(missing_part.location().contains("error="));
+    assert_eq!(missing_part.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(missing_part.count("#entry-error"), 1);
+    let part_without_outcome = app
+        .post_form(
+            &format!("{run_path}/finish"),
+            &session,
+            &[("outcome", "completed"), ("failed_part", "tank_capacitor")],
+        )
+        .await;
+    assert_eq!(
+        part_without_outcome.status,
+        StatusCode::UNPROCESSABLE_ENTITY,
+        "a failed part needs the outcome part failed"
+    );
     let done = app
         .post_form(
             &format!("{run_path}/finish"),

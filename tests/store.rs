@@ -140,7 +140,10 @@ async fn a_correction_keeps_the_old_value_in_the_history() {
         .await
         .unwrap();
     let old = store.current_readings(run).await.unwrap()[0].id;
-    store.correct_reading(run, old, 41.0, None).await.unwrap();
+    store
+        .correct_reading(run, old, None, 41.0, None)
+        .await
+        .unwrap();
     let current = store.current_readings(run).await.unwrap();
     assert_eq!(current.len(), 1);
     assert_eq!(current[0].value, 41.0);
@@ -148,7 +151,10 @@ async fn a_correction_keeps_the_old_value_in_the_history() {
     assert_eq!(history.len(), 2);
     assert!(history.iter().any(|r| r.value == 410.0 && r.superseded));
     assert!(
-        store.correct_reading(run, old, 42.0, None).await.is_err(),
+        store
+            .correct_reading(run, old, None, 42.0, None)
+            .await
+            .is_err(),
         "a replaced value cannot be corrected again"
     );
 }
@@ -224,13 +230,16 @@ async fn a_failed_write_is_rolled_back_alone() {
         .await
         .unwrap();
     let first = store.current_readings(run).await.unwrap()[0].id;
-    store.correct_reading(run, first, 21.0, None).await.unwrap();
+    store
+        .correct_reading(run, first, None, 21.0, None)
+        .await
+        .unwrap();
     let before = store.writer_metrics();
     // Correcting the replaced value again fails after its reads, inside the writer; the writes
     // beside it keep theirs.
     let (one, two) = ([reading(1.0)], [reading(2.0)]);
     let (again, kept_a, kept_b) = tokio::join!(
-        store.correct_reading(run, first, 22.0, None),
+        store.correct_reading(run, first, None, 22.0, None),
         store.add_readings(run, &one, None),
         store.add_readings(run, &two, None),
     );

@@ -10,8 +10,10 @@
 //! time typed for the whole set (`2:30`, `150 s`), for values written on paper.
 
 use crate::analysis::sent_entry::{check_elapsed_s, check_sender_id};
-use crate::channel::{Channel, Quantity};
-use crate::units::{Unit, UnitError, parse_elapsed_s, parse_value};
+use crate::channel::Channel;
+use crate::checks::readings::{ReadingBounds, page_typed_time, typed_value};
+
+pub use crate::checks::readings::unit_of as unit_for;
 
 /// How far ahead of the server's clock a phone's stamp may be before it is refused: the offset
 /// is measured on each page load and each answer, so a few seconds cover a slow network.
@@ -24,6 +26,8 @@ pub struct CheckedReading {
     pub t_s: f64,
     pub value: f64,
     pub client_id: Option<String>,
+    /// The unit a bare number was read in (the frequency field), for the confirmation.
+    pub assumed: Option<&'static str>,
 }
 
 /// A field of the set and what is wrong with it. `field` is the channel name, `time`, or `set`
@@ -43,20 +47,8 @@ impl FieldError {
     }
 }
 
-/// What a bare number in an entry field means: the frequency field takes kHz (the numeric
-/// keyboard of a phone has no `k`, and no driver of this kind runs below a few kHz); every other
-/// field its SI unit. Typed units and prefixes always win: `152k`, `152000 Hz`.
-pub fn parse_entry(channel: Channel, text: &str) -> Result<f64, UnitError> {
-    let bare = text.trim().replace(',', ".").parse::<f64>().is_ok();
-    let value = parse_value(text, unit_for(channel.quantity()))?;
-    Ok(if bare && channel == Channel::Frequency {
-        value * 1e3
-    } else {
-        value
-    })
-}
-
-/// The unit a bare number in the channel's field is read in.
+/// The unit a bare number in the channel's field is read in (the frequency field: kHz under
+/// 10,000, Hz above, see `checks::readings::typed_value`).
 pub fn entry_unit(channel: Channel) -> &'static str {
     match channel {
         Channel::Frequency => "kHz",
@@ -64,39 +56,20 @@ pub fn entry_unit(channel: Channel) -> &'static str {
     }
 }
 
-pub fn unit_for(quantity: Quantity) -> Unit {
-    match quantity {
-        Quantity::Voltage => Unit::Volt,
-        Quantity::Current => Unit::Ampere,
-        Quantity::Frequency => Unit::Hertz,
-        Quantity::Temperature => Unit::Celsius,
-    }
-}
-
-/// A value typed into a channel's field, in SI units and within the channel's plausible range.
-pub fn check_entry_value(channel: Channel, text: &str) -> Result<f64, String> {
-    let value = parse_entry(channel, text).map_err(|e| e.to_string())?;
-    let (low, high) = channel.plausible_range();
-    if !(low..=high).contains(&value) {
-        let unit = channel.quantity().unit();
-        return Err(format!(
-            "{} is outside what this channel can read ({low} to {high} {unit})",
-            text.trim()
-        ));
-    }
-    Ok(value)
+/// A value typed into a channel's field: the one check of a reading's value
+/// (`checks::readings`), the same for the page, the API and an import.
+pub fn check_entry_value(
+    bounds: &ReadingBounds,
+    channel: Channel,
+    text: &str,
+) -> Result<(f64, Option<&'static str>), String> {
+    let typed = typed_value(channel, text)?;
+    Ok((bounds.value(channel, typed.value)?, typed.assumed))
 }
 
 /// A time typed on the page: not before the start, not later than the time elapsed so far.
 pub fn check_typed_time(text: &str, elapsed_now_s: f64) -> Result<f64, String> {
-    if text.trim().starts_with('-') {
-        return Err(format!("{} is before the run started", text.trim()));
-    }
-    let t_s = parse_elapsed_s(text).map_err(|_| "use 2:30 or 150 s".to_string())?;
-    if t_s > elapsed_now_s + 1.0 {
-        return Err(format!("{} is later than the time run so far", text.trim()));
-    }
-    Ok(t_s)
+    page_typed_time(text, elapsed_now_s)
 }
 
 /// A stamp taken by the page's script: within bounds and not ahead of the server's clock (a
@@ -113,13 +86,14 @@ pub fn check_stamp(text: &str, elapsed_now_s: f64) -> Result<f64, String> {
     Ok(t_s.min(elapsed_now_s))
 }
 
-/// Checks a set from the form's fields. `channels` are the run's channels in use;
-/// `elapsed_now_s` is the server's time since the run started.
+/// Checks a set from the form's fields. `channels` are the run's channels in use; `bounds` are
+/// the run's (its revision's parts, and the server's time since the run started).
 pub fn check_reading_set(
     fields: &[(String, String)],
     channels: &[Channel],
-    elapsed_now_s: f64,
+    bounds: &ReadingBounds,
 ) -> Result<Vec<CheckedReading>, Vec<FieldError>> {
+    let elapsed_now_s = bounds.max_t_s();
     let field = |name: &str| {
         fields
             .iter()
@@ -131,10 +105,13 @@ pub fn check_reading_set(
         if let Some(channel) = name.strip_prefix("value.")
             && !channels.iter().any(|c| c.to_string() == channel)
         {
-            errors.push(FieldError::new(
-                "set",
-                "a value for a channel this run does not log",
-            ));
+            // The revision's own verdict first (the same words the API and an import give),
+            // then whether this run logs it.
+            let message = match bounds.channel(channel) {
+                Err(message) => message,
+                Ok(channel) => format!("this run does not log {}", channel.title()),
+            };
+            errors.push(FieldError::new("set", message));
         }
     }
     let typed_time = match field("time").map(str::trim).filter(|t| !t.is_empty()) {
@@ -153,7 +130,9 @@ pub fn check_reading_set(
         let Some(text) = field(&format!("value.{name}")).filter(|t| !t.trim().is_empty()) else {
             continue;
         };
-        let value = check_entry_value(channel, text);
+        let value = bounds
+            .channel(&name)
+            .and_then(|channel| check_entry_value(bounds, channel, text));
         let t_s = match (typed_time, field(&format!("at.{name}"))) {
             (Some(t_s), _) => Ok(t_s),
             (None, Some(stamp)) if !stamp.trim().is_empty() => check_stamp(stamp, elapsed_now_s),
@@ -164,11 +143,12 @@ pub fn check_reading_set(
             Some(id) => check_sender_id(id).map(Some),
         };
         match (value, t_s, client_id) {
-            (Ok(value), Ok(t_s), Ok(client_id)) => set.push(CheckedReading {
+            (Ok((value, assumed)), Ok(t_s), Ok(client_id)) => set.push(CheckedReading {
                 channel,
                 t_s,
                 value,
                 client_id,
+                assumed,
             }),
             (value, t_s, client_id) => {
                 let message = [value.err(), t_s.err(), client_id.err()]
@@ -202,6 +182,18 @@ mod tests {
             .collect()
     }
 
+    fn parts() -> crate::parts::Parts {
+        serde_json::from_value(serde_json::json!({
+            "tank_capacitor": {"capacitance_f": 330e-9, "count": 6},
+            "work_coil": {"inductance_h": 1e-6}
+        }))
+        .unwrap()
+    }
+
+    fn bounds(parts: &crate::parts::Parts, elapsed_now_s: f64) -> ReadingBounds<'_> {
+        ReadingBounds::page(parts, elapsed_now_s)
+    }
+
     fn channels() -> Vec<Channel> {
         vec![
             Channel::SupplyVoltage,
@@ -223,11 +215,20 @@ mod tests {
             ("152000 Hz", 152e3),
             ("0.15 MHz", 150e3),
         ] {
-            let got = parse_entry(Channel::Frequency, text).unwrap();
+            let got = check_entry_value(&bounds(&parts(), 0.0), Channel::Frequency, text)
+                .unwrap()
+                .0;
             assert!((got - hz).abs() < 1e-6, "{text}: {got}");
         }
-        assert_eq!(parse_entry(Channel::SupplyCurrent, "3").unwrap(), 3.0);
-        assert!(parse_entry(Channel::Frequency, "fast").is_err());
+        let parts = parts();
+        let b = bounds(&parts, 0.0);
+        assert_eq!(
+            check_entry_value(&b, Channel::SupplyCurrent, "3")
+                .unwrap()
+                .0,
+            3.0
+        );
+        assert!(check_entry_value(&b, Channel::Frequency, "fast").is_err());
         assert_eq!(entry_unit(Channel::Frequency), "kHz");
     }
 
@@ -243,7 +244,7 @@ mod tests {
                 ("at.temp.tank_capacitor", "123.0"),
             ]),
             &channels(),
-            130.0,
+            &bounds(&parts(), 130.0),
         )
         .unwrap();
         assert_eq!(set.len(), 2);
@@ -254,12 +255,16 @@ mod tests {
 
     #[test]
     fn without_script_the_set_is_stamped_now_or_at_the_typed_time() {
-        let now = check_reading_set(&pairs(&[("value.frequency", "150")]), &channels(), 90.0);
+        let now = check_reading_set(
+            &pairs(&[("value.frequency", "150")]),
+            &channels(),
+            &bounds(&parts(), 90.0),
+        );
         assert_eq!(now.unwrap()[0].t_s, 90.0);
         let typed = check_reading_set(
             &pairs(&[("value.frequency", "150"), ("time", "1:15")]),
             &channels(),
-            90.0,
+            &bounds(&parts(), 90.0),
         );
         assert_eq!(typed.unwrap()[0].t_s, 75.0);
     }
@@ -273,7 +278,7 @@ mod tests {
                 ("value.temp.tank_capacitor", "4000"),
             ]),
             &channels(),
-            60.0,
+            &bounds(&parts(), 60.0),
         )
         .unwrap_err();
         let fields: Vec<&str> = errors.iter().map(|e| e.field.as_str()).collect();
@@ -292,7 +297,7 @@ mod tests {
             let errors = check_reading_set(
                 &pairs(&[("value.frequency", "150"), ("time", time)]),
                 &channels(),
-                60.0,
+                &bounds(&parts(), 60.0),
             )
             .unwrap_err();
             assert_eq!(errors[0].field, "time", "{time}");
@@ -302,7 +307,7 @@ mod tests {
             let errors = check_reading_set(
                 &pairs(&[("value.frequency", "150"), ("at.frequency", stamp)]),
                 &channels(),
-                60.0,
+                &bounds(&parts(), 60.0),
             )
             .unwrap_err();
             assert_eq!(errors[0].field, "frequency", "{stamp}");
@@ -310,21 +315,29 @@ mod tests {
         let slightly_ahead = check_reading_set(
             &pairs(&[("value.frequency", "150"), ("at.frequency", "62")]),
             &channels(),
-            60.0,
+            &bounds(&parts(), 60.0),
         );
         assert_eq!(slightly_ahead.unwrap()[0].t_s, 60.0, "a small lead is now");
     }
 
     #[test]
     fn an_empty_set_or_a_channel_not_logged_is_refused() {
-        let empty = check_reading_set(&pairs(&[("value.frequency", " ")]), &channels(), 9.0);
+        let empty = check_reading_set(
+            &pairs(&[("value.frequency", " ")]),
+            &channels(),
+            &bounds(&parts(), 9.0),
+        );
         assert_eq!(empty.unwrap_err()[0].field, "set");
-        let stranger = check_reading_set(&pairs(&[("value.water_temp", "20")]), &channels(), 9.0);
+        let stranger = check_reading_set(
+            &pairs(&[("value.water_temp", "20")]),
+            &channels(),
+            &bounds(&parts(), 9.0),
+        );
         assert_eq!(stranger.unwrap_err()[0].field, "set");
         let bad_id = check_reading_set(
             &pairs(&[("value.frequency", "150"), ("id.frequency", "a b")]),
             &channels(),
-            9.0,
+            &bounds(&parts(), 9.0),
         );
         assert_eq!(bad_id.unwrap_err()[0].field, "frequency");
     }

@@ -3,3 +3,10 @@
 //! Nothing here touches the database or the web framework.
 
 pub mod accounts;
+pub mod builds;
+pub mod field;
+pub mod readings;
+pub mod runs;
+pub mod text;
+
+pub use field::FieldErrors;

@@ -163,6 +163,23 @@ pub enum UserCommand {
     },
     /// List accounts
     List,
+    /// Stop an account: it cannot sign in, and its sessions and API tokens stop at once
+    Disable {
+        /// Sign-in name
+        name: String,
+    },
+    /// Let a disabled account sign in again (its revoked tokens stay revoked)
+    Enable {
+        /// Sign-in name
+        name: String,
+    },
+    /// Change what an account may do (in force from its next request)
+    Role {
+        /// Sign-in name
+        name: String,
+        #[arg(value_enum)]
+        role: RoleArg,
+    },
 }
 
 #[derive(Subcommand)]

@@ -6,7 +6,7 @@ use anyhow::anyhow;
 
 use eddybench::checks::accounts;
 use eddybench::secrets::{generate_password, hash_password};
-use eddybench::store::{Store, UserRole};
+use eddybench::store::{Store, StoreError, UserRole};
 
 use super::UserCommand;
 
@@ -40,16 +40,54 @@ pub async fn user_command(store: &Store, command: UserCommand) -> anyhow::Result
             }
             Ok(())
         }
+        UserCommand::Disable { name } => {
+            refused_if_missing(
+                store.set_user_disabled(name.trim(), true, None).await,
+                &name,
+            )?;
+            println!("Disabled {name}: its sessions ended and its tokens stopped.");
+            Ok(())
+        }
+        UserCommand::Enable { name } => {
+            refused_if_missing(
+                store.set_user_disabled(name.trim(), false, None).await,
+                &name,
+            )?;
+            println!("Enabled {name}.");
+            Ok(())
+        }
+        UserCommand::Role { name, role } => {
+            let role = UserRole::from(role);
+            refused_if_missing(store.set_user_role(name.trim(), role, None).await, &name)?;
+            println!("{name} is now {}.", role.as_str());
+            Ok(())
+        }
         UserCommand::List => {
             for user in store.list_users().await? {
+                let state = if user.disabled_at.is_some() {
+                    "disabled"
+                } else {
+                    ""
+                };
                 println!(
-                    "{:<24} {:<8} {}",
+                    "{:<24} {:<8} {:<9} {}",
                     user.name,
                     user.role.as_str(),
+                    state,
                     user.display_name
                 );
             }
             Ok(())
         }
+    }
+}
+
+/// A store answer as the command line says it: a missing account by name, a refusal as is.
+fn refused_if_missing(result: Result<(), StoreError>, name: &str) -> anyhow::Result<()> {
+    match result {
+        Ok(()) => Ok(()),
+        Err(StoreError::NotFound) => Err(anyhow!("no user named {name}")),
+        Err(StoreError::Conflict(message)) => Err(anyhow!("{message}")),
+        Err(other) => Err(other.into()),
     }
 }

@@ -433,6 +433,7 @@ fn readings_table(document: &BuildDocument) -> Rows {
         "corrects",
         "superseded",
         "entered_at_utc",
+        "void_reason",
     ]);
     let mut rows = Vec::new();
     for (i, run) in document.runs.iter().enumerate() {
@@ -452,6 +453,7 @@ fn readings_table(document: &BuildDocument) -> Rows {
                 integer(reading.corrects.map(|k| k as i64 + 1)),
                 text(if replaced.contains(&j) { "yes" } else { "no" }),
                 time_utc(Some(reading.entered_at)),
+                text(reading.voided.as_ref().map_or("", |v| v.reason.as_str())),
             ]);
         }
     }

@@ -44,10 +44,14 @@ pub fn slug_from_name(name: &str) -> String {
     }
     let slug = slug.trim_end_matches('-');
     let slug: String = slug.chars().take(48).collect();
+    let slug = slug.trim_end_matches('-');
     if slug.is_empty() {
         "build".into()
+    } else if crate::checks::text::is_reserved_slug(slug) {
+        // `new`, `export`...: pages of their own, so such a build lives at `new-build`.
+        format!("{slug}-build")
     } else {
-        slug.trim_end_matches('-').to_string()
+        slug.to_string()
     }
 }
 

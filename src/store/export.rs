@@ -14,7 +14,7 @@ use super::{Outcome, now_unix_s};
 use crate::analysis::run::Load;
 use crate::export::{
     BuildDocument, BuildRecord, DocumentError, EventMarkRecord, FORMAT, ReadingRecord,
-    RevisionRecord, RunRecord, VERSION,
+    RevisionRecord, RunRecord, VERSION, Voided,
 };
 
 /// Why an import saved nothing: the document, or the database.
@@ -79,6 +79,8 @@ struct ReadingRow {
     value: f64,
     corrects_id: Option<ReadingId>,
     entered_at: i64,
+    voided_at: Option<i64>,
+    void_reason: String,
 }
 
 /// Rows per multi-row INSERT of readings: SQLite allows 32 766 bound parameters, each row binds 7.
@@ -126,7 +128,8 @@ impl Store {
         .await?;
         // Entry order: a correction is always entered after the reading it replaces.
         let readings: Vec<ReadingRow> = sqlx::query_as(
-            "SELECT g.id, g.run_id, g.t_s, g.channel, g.value, g.corrects_id, g.entered_at
+            "SELECT g.id, g.run_id, g.t_s, g.channel, g.value, g.corrects_id, g.entered_at,
+                    g.voided_at, g.void_reason
              FROM readings g JOIN runs u ON u.id = g.run_id
              WHERE u.build_id = ? ORDER BY g.run_id, g.id",
         )
@@ -268,6 +271,10 @@ fn run_record(row: RunRow, readings: Vec<ReadingRow>) -> StoreResult<RunRecord> 
                 value: r.value,
                 corrects,
                 entered_at: r.entered_at,
+                voided: r.voided_at.map(|at| Voided {
+                    at,
+                    reason: r.void_reason,
+                }),
             })
         })
         .collect::<StoreResult<Vec<_>>>()?;
@@ -445,7 +452,7 @@ async fn insert_readings(
     for chunk in rows.chunks(READINGS_PER_STATEMENT) {
         let mut builder = QueryBuilder::<Sqlite>::new(
             "INSERT INTO readings (id, run_id, t_s, channel, value, corrects_id, entered_by,
-                entered_at) ",
+                entered_at, voided_at, void_reason) ",
         );
         builder.push_values(chunk, |mut row, (id, run_id, reading, corrects)| {
             row.push_bind(*id)
@@ -455,7 +462,9 @@ async fn insert_readings(
                 .push_bind(reading.value)
                 .push_bind(*corrects)
                 .push("NULL")
-                .push_bind(reading.entered_at);
+                .push_bind(reading.entered_at)
+                .push_bind(reading.voided.as_ref().map(|v| v.at))
+                .push_bind(reading.voided.as_ref().map_or("", |v| v.reason.as_str()));
         });
         builder.build().execute(&mut *tx).await?;
     }

@@ -29,6 +29,9 @@ pub struct ReadingRow {
     /// Whether a later correction replaced this value.
     pub superseded: bool,
     pub entered_at: i64,
+    /// When it was voided (it then leaves every analysis, chart and count), and why.
+    pub voided_at: Option<i64>,
+    pub void_reason: String,
 }
 
 /// Rows per INSERT statement: SQLite allows 32 766 bound parameters, and each row binds 7.
@@ -49,31 +52,20 @@ impl Store {
         Ok(already_stored)
     }
 
-    /// Replaces the current value of a reading by a new row that names it; the old one stays in
-    /// the history. A reading already corrected cannot be corrected again (correct the newer one).
+    /// Replaces the current value (and time) of a reading by a new row that names it; the old
+    /// one stays in the history; `t_s` None keeps its time. A reading already corrected cannot be corrected again (correct
+    /// the newer one), nor a voided one (restore it first).
     pub async fn correct_reading(
         &self,
         run_id: RunId,
         reading_id: ReadingId,
+        t_s: Option<f64>,
         value: f64,
         entered_by: Option<UserId>,
     ) -> StoreResult<ReadingId> {
         let mut tx = self.begin_write().await?;
-        let old: Option<(f64, String, f64, i64)> = sqlx::query_as(
-            "SELECT t_s, channel, value,
-                    EXISTS (SELECT 1 FROM readings c WHERE c.corrects_id = r.id)
-             FROM readings r WHERE r.id = ? AND r.run_id = ?",
-        )
-        .bind(reading_id)
-        .bind(run_id)
-        .fetch_optional(&mut *tx)
-        .await?;
-        let (t_s, channel, old_value, superseded) = old.ok_or(StoreError::NotFound)?;
-        if superseded != 0 {
-            return Err(StoreError::Conflict(
-                "this reading was already corrected; correct the newer value".into(),
-            ));
-        }
+        let (old_t_s, channel, old_value) = current_row(&mut tx, run_id, reading_id).await?;
+        let t_s = t_s.unwrap_or(old_t_s);
         let id = sqlx::query_scalar(
             "INSERT INTO readings (run_id, t_s, channel, value, corrects_id, entered_by, entered_at)
              VALUES (?, ?, ?, ?, ?, ?, ?) RETURNING id",
@@ -92,7 +84,7 @@ impl Store {
             .bind(run_id)
             .fetch_one(&mut *tx)
             .await?;
-        let detail = format!("{channel} at {t_s} s: was {old_value}, now {value}");
+        let detail = format!("{channel}: was {old_value} at {old_t_s} s, now {value} at {t_s} s");
         super::shares::record(
             &mut tx,
             entered_by,
@@ -115,7 +107,7 @@ impl Store {
         Ok(sqlx::query_as(
             "SELECT r.id, r.t_s, r.channel, r.value, r.corrects_id,
                     EXISTS (SELECT 1 FROM readings c WHERE c.corrects_id = r.id) AS superseded,
-                    r.entered_at
+                    r.entered_at, r.voided_at, r.void_reason
              FROM readings r WHERE r.run_id = ? ORDER BY r.t_s, r.id",
         )
         .bind(run_id)
@@ -125,6 +117,18 @@ impl Store {
 
     /// How many current values a run has (replaced values not counted).
     pub async fn current_reading_count(&self, run_id: RunId) -> StoreResult<i64> {
+        Ok(sqlx::query_scalar(
+            "SELECT COUNT(*) FROM readings r
+             WHERE r.run_id = ? AND r.voided_at IS NULL
+               AND NOT EXISTS (SELECT 1 FROM readings c WHERE c.corrects_id = r.id)",
+        )
+        .bind(run_id)
+        .fetch_one(&self.pool)
+        .await?)
+    }
+
+    /// How many rows the readings table of a run lists: current values, voided ones included.
+    pub async fn table_reading_count(&self, run_id: RunId) -> StoreResult<i64> {
         Ok(sqlx::query_scalar(
             "SELECT COUNT(*) FROM readings r
              WHERE r.run_id = ?
@@ -144,7 +148,8 @@ impl Store {
         limit: i64,
     ) -> StoreResult<Vec<ReadingRow>> {
         Ok(sqlx::query_as(
-            "SELECT r.id, r.t_s, r.channel, r.value, r.corrects_id, 0 AS superseded, r.entered_at
+            "SELECT r.id, r.t_s, r.channel, r.value, r.corrects_id, 0 AS superseded, r.entered_at,
+                    r.voided_at, r.void_reason
              FROM readings r
              WHERE r.run_id = ? AND r.id > ?
                AND NOT EXISTS (SELECT 1 FROM readings c WHERE c.corrects_id = r.id)
@@ -169,7 +174,8 @@ impl Store {
         limit: i64,
     ) -> StoreResult<Vec<ReadingRow>> {
         Ok(sqlx::query_as(
-            "SELECT r.id, r.t_s, r.channel, r.value, r.corrects_id, 0 AS superseded, r.entered_at
+            "SELECT r.id, r.t_s, r.channel, r.value, r.corrects_id, 0 AS superseded, r.entered_at,
+                    r.voided_at, r.void_reason
              FROM readings r
              WHERE r.run_id = ?
                AND NOT EXISTS (SELECT 1 FROM readings c WHERE c.corrects_id = r.id)
@@ -190,7 +196,8 @@ impl Store {
                  UNION ALL
                  SELECT r.corrects_id FROM readings r JOIN chain ON r.id = chain.id
                  WHERE r.corrects_id IS NOT NULL)
-             SELECT r.id, r.t_s, r.channel, r.value, r.corrects_id, 1 AS superseded, r.entered_at
+             SELECT r.id, r.t_s, r.channel, r.value, r.corrects_id, 1 AS superseded, r.entered_at,
+                    r.voided_at, r.void_reason
              FROM readings r JOIN chain ON r.id = chain.id ORDER BY r.id DESC",
         )
         .bind(reading_id)
@@ -220,12 +227,86 @@ impl Store {
         }
     }
 
+    /// Voids the current value of a reading with a reason (it leaves every analysis, chart and
+    /// count and stays in the history and the export), or restores a voided one. Recorded in the
+    /// audit trail with the reason; asking again for the state it is in changes nothing.
+    pub async fn set_reading_void(
+        &self,
+        run_id: RunId,
+        reading_id: ReadingId,
+        void: Option<&str>,
+        by: Option<UserId>,
+    ) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
+        let row: Option<(String, f64, f64, Option<i64>, i64)> = sqlx::query_as(
+            "SELECT channel, t_s, value, voided_at,
+                    EXISTS (SELECT 1 FROM readings c WHERE c.corrects_id = r.id)
+             FROM readings r WHERE r.id = ? AND r.run_id = ?",
+        )
+        .bind(reading_id)
+        .bind(run_id)
+        .fetch_optional(&mut *tx)
+        .await?;
+        let (channel, t_s, value, voided_at, superseded) = row.ok_or(StoreError::NotFound)?;
+        if superseded != 0 {
+            return Err(StoreError::Conflict(
+                "this value was corrected; void or restore the newer value".into(),
+            ));
+        }
+        let (action, detail) = match (void, voided_at) {
+            // Already as asked (a resent request): nothing to change or record.
+            (Some(_), Some(_)) | (None, None) => return Ok(()),
+            (Some(reason), None) => {
+                sqlx::query(
+                    "UPDATE readings SET voided_at = ?, voided_by = ?, void_reason = ? WHERE id = ?",
+                )
+                .bind(now_unix_s())
+                .bind(by)
+                .bind(reason)
+                .bind(reading_id)
+                .execute(&mut *tx)
+                .await?;
+                (
+                    "reading voided",
+                    format!("{channel} {value} at {t_s} s: {reason}"),
+                )
+            }
+            (None, Some(_)) => {
+                sqlx::query(
+                    "UPDATE readings SET voided_at = NULL, voided_by = NULL, void_reason = ''
+                     WHERE id = ?",
+                )
+                .bind(reading_id)
+                .execute(&mut *tx)
+                .await?;
+                ("reading restored", format!("{channel} {value} at {t_s} s"))
+            }
+        };
+        super::digests::forget_digest(&mut tx, run_id).await?;
+        let build_id: super::BuildId = sqlx::query_scalar("SELECT build_id FROM runs WHERE id = ?")
+            .bind(run_id)
+            .fetch_one(&mut *tx)
+            .await?;
+        super::shares::record(
+            &mut tx,
+            by,
+            Some(build_id),
+            action,
+            &format!("run {run_id}"),
+            &detail,
+        )
+        .await?;
+        tx.commit().await?;
+        Ok(())
+    }
+
     /// The current values of a run (corrections applied), in time order.
     pub async fn current_readings(&self, run_id: RunId) -> StoreResult<Vec<ReadingRow>> {
         Ok(sqlx::query_as(
-            "SELECT r.id, r.t_s, r.channel, r.value, r.corrects_id, 0 AS superseded, r.entered_at
+            "SELECT r.id, r.t_s, r.channel, r.value, r.corrects_id, 0 AS superseded, r.entered_at,
+                    r.voided_at, r.void_reason
              FROM readings r
-             WHERE r.run_id = ?
+             WHERE r.run_id = ? AND r.voided_at IS NULL
                AND NOT EXISTS (SELECT 1 FROM readings c WHERE c.corrects_id = r.id)
              ORDER BY r.t_s, r.id",
         )
@@ -233,6 +314,36 @@ impl Store {
         .fetch_all(&self.pool)
         .await?)
     }
+}
+
+/// The time, channel and value of a reading that may be corrected: of this run, not replaced by
+/// a correction, not voided.
+async fn current_row(
+    tx: &mut SqliteConnection,
+    run_id: RunId,
+    reading_id: ReadingId,
+) -> StoreResult<(f64, String, f64)> {
+    let old: Option<(f64, String, f64, i64, Option<i64>)> = sqlx::query_as(
+        "SELECT t_s, channel, value,
+                EXISTS (SELECT 1 FROM readings c WHERE c.corrects_id = r.id), voided_at
+         FROM readings r WHERE r.id = ? AND r.run_id = ?",
+    )
+    .bind(reading_id)
+    .bind(run_id)
+    .fetch_optional(&mut *tx)
+    .await?;
+    let (t_s, channel, value, superseded, voided_at) = old.ok_or(StoreError::NotFound)?;
+    if superseded != 0 {
+        return Err(StoreError::Conflict(
+            "this reading was already corrected; correct the newer value".into(),
+        ));
+    }
+    if voided_at.is_some() {
+        return Err(StoreError::Conflict(
+            "this reading is voided; restore it before correcting it".into(),
+        ));
+    }
+    Ok((t_s, channel, value))
 }
 
 /// Multi-row INSERTs inside the caller's transaction (shared by form entry and bulk import).

@@ -58,7 +58,8 @@ impl Store {
         let row: Option<SessionRow> = sqlx::query_as(
             "SELECT s.user_id, u.name, u.display_name, u.role, s.csrf_token, s.last_seen_at
              FROM sessions s JOIN users u ON u.id = s.user_id
-             WHERE s.id_hash = ? AND s.last_seen_at > ? AND s.created_at > ?",
+             WHERE s.id_hash = ? AND s.last_seen_at > ? AND s.created_at > ?
+               AND u.disabled_at IS NULL",
         )
         .bind(id_hash)
         .bind(now - idle_s)

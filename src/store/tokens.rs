@@ -94,7 +94,7 @@ impl Store {
         let row: Option<TokenUserRow> = sqlx::query_as(
             "SELECT t.id AS token_id, t.user_id, u.name, u.display_name, u.role, t.last_used_at
              FROM api_tokens t JOIN users u ON u.id = t.user_id
-             WHERE t.token_hash = ? AND t.revoked_at IS NULL",
+             WHERE t.token_hash = ? AND t.revoked_at IS NULL AND u.disabled_at IS NULL",
         )
         .bind(hash)
         .fetch_optional(&self.pool)

@@ -42,6 +42,8 @@ pub struct User {
     pub role: Role,
     pub password_hash: String,
     pub created_at: i64,
+    /// When the account was disabled: it cannot sign in, and its sessions and tokens stop.
+    pub disabled_at: Option<i64>,
 }
 
 #[derive(sqlx::FromRow)]
@@ -52,6 +54,7 @@ struct UserRow {
     role: String,
     password_hash: String,
     created_at: i64,
+    disabled_at: Option<i64>,
 }
 
 impl TryFrom<UserRow> for User {
@@ -65,11 +68,12 @@ impl TryFrom<UserRow> for User {
             display_name: row.display_name,
             password_hash: row.password_hash,
             created_at: row.created_at,
+            disabled_at: row.disabled_at,
         })
     }
 }
 
-const USER_COLUMNS: &str = "id, name, display_name, role, password_hash, created_at";
+const USER_COLUMNS: &str = "id, name, display_name, role, password_hash, created_at, disabled_at";
 
 impl Store {
     pub async fn create_user(
@@ -114,6 +118,95 @@ impl Store {
         .fetch_all(&self.pool)
         .await?;
         rows.into_iter().map(User::try_from).collect()
+    }
+
+    /// Disables an account (its sessions end at once and its tokens are refused from the next
+    /// request) or enables it again. The last enabled admin cannot be disabled.
+    pub async fn set_user_disabled(
+        &self,
+        name: &str,
+        disabled: bool,
+        by: Option<UserId>,
+    ) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
+        let (id, role, disabled_at) = account(&mut tx, name).await?;
+        if disabled_at.is_some() == disabled {
+            return Ok(());
+        }
+        if disabled && role == "admin" {
+            keep_an_admin(&mut tx, id).await?;
+        }
+        sqlx::query("UPDATE users SET disabled_at = ? WHERE id = ?")
+            .bind(disabled.then(now_unix_s))
+            .bind(id)
+            .execute(&mut *tx)
+            .await?;
+        if disabled {
+            sqlx::query("DELETE FROM sessions WHERE user_id = ?")
+                .bind(id)
+                .execute(&mut *tx)
+                .await?;
+        }
+        let action = if disabled {
+            "user disabled"
+        } else {
+            "user enabled"
+        };
+        super::shares::record(&mut tx, by, None, action, name, "").await?;
+        tx.commit().await?;
+        Ok(())
+    }
+
+    /// Changes an account's role (in force from its next request). The last enabled admin keeps
+    /// the admin role.
+    pub async fn set_user_role(
+        &self,
+        name: &str,
+        role: Role,
+        by: Option<UserId>,
+    ) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
+        let (id, old, _) = account(&mut tx, name).await?;
+        if old == role.as_str() {
+            return Ok(());
+        }
+        if old == "admin" {
+            keep_an_admin(&mut tx, id).await?;
+        }
+        sqlx::query("UPDATE users SET role = ? WHERE id = ?")
+            .bind(role.as_str())
+            .bind(id)
+            .execute(&mut *tx)
+            .await?;
+        let detail = format!("{old} to {}", role.as_str());
+        super::shares::record(&mut tx, by, None, "role changed", name, &detail).await?;
+        tx.commit().await?;
+        Ok(())
+    }
+
+    /// Revokes every live API token of an account; returns how many.
+    pub async fn revoke_tokens_of_user(&self, id: UserId) -> StoreResult<u64> {
+        let mut tx = self.begin_write().await?;
+        let revoked = sqlx::query(
+            "UPDATE api_tokens SET revoked_at = ? WHERE user_id = ? AND revoked_at IS NULL",
+        )
+        .bind(now_unix_s())
+        .bind(id)
+        .execute(&mut *tx)
+        .await?
+        .rows_affected();
+        let detail = format!("{revoked} tokens");
+        super::shares::record(
+            &mut tx,
+            Some(id),
+            None,
+            "tokens revoked",
+            "own account",
+            &detail,
+        )
+        .await?;
+        tx.commit().await?;
+        Ok(revoked)
     }
 
     /// Sets a new password hash and ends every session of the account but `keep_session_hash`.
@@ -224,6 +317,34 @@ impl Store {
             .await?;
         tx.commit().await
     }
+}
+
+/// An account by name: its id, role and when it was disabled.
+async fn account(
+    tx: &mut sqlx::SqliteConnection,
+    name: &str,
+) -> StoreResult<(UserId, String, Option<i64>)> {
+    sqlx::query_as("SELECT id, role, disabled_at FROM users WHERE name = ?")
+        .bind(name)
+        .fetch_optional(&mut *tx)
+        .await?
+        .ok_or(StoreError::NotFound)
+}
+
+/// Refuses a change that would leave no enabled admin to manage accounts.
+async fn keep_an_admin(tx: &mut sqlx::SqliteConnection, leaving: UserId) -> StoreResult<()> {
+    let others: i64 = sqlx::query_scalar(
+        "SELECT COUNT(*) FROM users WHERE role = 'admin' AND disabled_at IS NULL AND id <> ?",
+    )
+    .bind(leaving)
+    .fetch_one(&mut *tx)
+    .await?;
+    if others == 0 {
+        return Err(StoreError::Conflict(
+            "this is the last admin; make another admin first".into(),
+        ));
+    }
+    Ok(())
 }
 
 /// Failures older than this are forgotten (the longest wait is far shorter).

@@ -32,6 +32,12 @@ pub enum AppError {
 }
 
 impl AppError {
+    /// The first refused field of a check, for the doors that answer with one (the API).
+    pub fn refused(errors: &crate::checks::FieldErrors) -> AppError {
+        let (field, message) = errors.first().unwrap_or(("body", "refused"));
+        AppError::invalid(field, message)
+    }
+
     pub fn invalid(field: impl Into<String>, message: impl Into<String>) -> AppError {
         AppError::Invalid {
             field: field.into(),
@@ -154,4 +160,10 @@ pub fn urlencode(text: &str) -> String {
             _ => format!("%{b:02X}"),
         })
         .collect()
+}
+
+impl From<crate::checks::FieldErrors> for AppError {
+    fn from(errors: crate::checks::FieldErrors) -> AppError {
+        AppError::refused(&errors)
+    }
 }

@@ -80,6 +80,7 @@ fn all_routes() -> Routes {
         .merge(attachments::router())
         .merge(api::builds::router())
         .merge(api::model::router())
+        .merge(api::voids::router())
         .merge(api::logbook::router())
         .merge(builds::export::router())
         .merge(shares::router())

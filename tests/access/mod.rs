@@ -347,6 +347,7 @@ pub fn fill(path: &str, world: &World, principal: Principal) -> Result<String, S
             ("readings", "{reading}") => world.reading_id.to_string(),
             ("attachments", "{attachment}") => world.attachment_id.to_string(),
             ("export", "{file}") => "runs.csv".into(),
+            ("users", "{user}") => "matrix-admin".into(),
             _ => {
                 return Err(format!(
                     "no fixture for {segment} (after /{before}) in {path}: add one to fill() \
@@ -395,6 +396,8 @@ pub fn payload(route: &RouteInfo) -> Result<Payload, String> {
             ("repeat", "a new matrix password"),
         ]),
         "/admin/users" => form(&[("name", "matrix-new"), ("role", "viewer")]),
+        // The admin keeps its own role: allowed, and nothing locks the matrix out.
+        "/admin/users/{user}/access" => form(&[("role", "admin")]),
         "/builds" => form(&[("name", "Matrix build")]),
         "/builds/{slug}/revisions" => form(&[
             ("from", "r1"),
@@ -415,6 +418,8 @@ pub fn payload(route: &RouteInfo) -> Result<Payload, String> {
         "/builds/{slug}/runs/{id}/entry-order" => form(&[("earlier", "supply_voltage")]),
         "/builds/{slug}/runs/{id}/readings/{reading}/correct" => form(&[("value", "24.2")]),
         "/builds/{slug}/runs/{id}/finish" => form(&[("outcome", "completed")]),
+        "/builds/{slug}/runs/{id}/readings/{reading}/void" => form(&[("reason", "probe slipped")]),
+        "/builds/{slug}/runs/{id}/readings/{reading}/restore" => form(&[]),
         "/builds/{slug}/runs/{id}/attachments" => Payload::Multipart(multipart(
             &[("kind", "scope"), ("caption", "gate")],
             "gate.png",
@@ -435,11 +440,17 @@ pub fn payload(route: &RouteInfo) -> Result<Payload, String> {
         })),
         "/api/v1/builds" => json(serde_json::json!({"name": "Matrix API build"})),
         "/api/v1/builds/{slug}/revisions" => json(serde_json::json!({"parts": parts})),
-        "/api/v1/builds/{slug}/runs" => json(serde_json::json!({"revision": "r1", "load": "none"})),
+        "/api/v1/builds/{slug}/runs" => {
+            json(serde_json::json!({"revision": "r1", "load": "none", "supply_voltage_v": 24.0}))
+        }
         "/api/v1/runs/{id}/readings" => json(serde_json::json!([
             {"t_s": 60, "channel": "supply_voltage", "value": 24.0}
         ])),
         "/api/v1/runs/{id}/finish" => json(serde_json::json!({"outcome": "completed"})),
+        "/api/v1/runs/{id}/readings/{reading}/void" => {
+            json(serde_json::json!({"reason": "probe slipped"}))
+        }
+        "/api/v1/runs/{id}/readings/{reading}/restore" => json(serde_json::json!({})),
         "/api/v1/builds/{slug}/shares" => json(serde_json::json!({"label": "matrix"})),
         _ => {
             return Err(format!(

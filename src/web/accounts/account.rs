@@ -24,6 +24,7 @@ pub fn router() -> Routes {
         .post("/account/password", Access::Viewer, change_password)
         .get("/admin/users", Access::Admin, users)
         .post("/admin/users", Access::Admin, add_user)
+        .post("/admin/users/{user}/access", Access::Admin, change_access)
 }
 
 #[derive(Template, WebTemplate)]
@@ -47,6 +48,9 @@ struct PasswordForm {
     current: String,
     new: String,
     repeat: String,
+    /// A checkbox: also revoke every API token of the account.
+    #[serde(default)]
+    revoke_tokens: Option<String>,
 }
 
 async fn change_password(
@@ -94,6 +98,9 @@ async fn change_password(
         .store
         .change_password(user.user_id, &new_hash, &keep)
         .await?;
+    if form.revoke_tokens.is_some() {
+        state.store.revoke_tokens_of_user(user.user_id).await?;
+    }
     Ok(PasswordPage {
         chrome: Chrome::new("Change password", &user),
         errors: FieldErrors::default(),
@@ -164,6 +171,55 @@ async fn add_user(
             Err(crate::store::StoreError::Conflict(message)) => errors.add("name", message),
             Err(other) => return Err(other.into()),
         }
+    }
+    let page = UsersPage {
+        chrome: Chrome::new("Accounts", &admin),
+        users: state.store.list_users().await?,
+        errors,
+        created: None,
+    };
+    Ok((StatusCode::UNPROCESSABLE_ENTITY, page).into_response())
+}
+
+#[derive(Deserialize)]
+struct AccessForm {
+    role: String,
+    /// A checkbox: present when ticked.
+    #[serde(default)]
+    disabled: Option<String>,
+}
+
+/// An account's role and whether it may sign in, as `eddybench user role|disable|enable` sets
+/// them (the same store calls, the same refusal to lose the last admin).
+async fn change_access(
+    State(state): State<AppState>,
+    Admin(admin): Admin,
+    axum::extract::Path(name): axum::extract::Path<String>,
+    Form(form): Form<AccessForm>,
+) -> Result<Response> {
+    let mut errors = FieldErrors::default();
+    let role = UserRole::parse(&form.role);
+    let result = match role {
+        None => Err(crate::store::StoreError::Conflict(
+            "choose viewer, editor or admin".into(),
+        )),
+        Some(role) => {
+            let by = Some(admin.user_id);
+            let disabled = form.disabled.is_some();
+            // The role first, then whether it may sign in; each refuses to leave no enabled
+            // admin (a refused second step keeps the first).
+            match state.store.set_user_role(&name, role, by).await {
+                Ok(()) => state.store.set_user_disabled(&name, disabled, by).await,
+                Err(error) => Err(error),
+            }
+        }
+    };
+    match result {
+        Ok(()) => {
+            return Ok(axum::response::Redirect::to("/admin/users").into_response());
+        }
+        Err(crate::store::StoreError::Conflict(message)) => errors.add("access", message),
+        Err(other) => return Err(other.into()),
     }
     let page = UsersPage {
         chrome: Chrome::new("Accounts", &admin),

@@ -185,7 +185,8 @@ async fn login(
         .await
         .map_err(|e| AppError::Internal(e.into()))?;
     let user = match (user, verified) {
-        (Some(user), true) => user,
+        // A disabled account gets the same answer as a wrong password: nothing to probe.
+        (Some(user), true) if user.disabled_at.is_none() => user,
         _ => return Ok(again("That name and password do not match an account.")),
     };
     state.store.clear_login_failures(&name, &source).await?;

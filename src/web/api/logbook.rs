@@ -12,7 +12,7 @@ use axum::routing::post;
 use serde::{Deserialize, Serialize};
 
 use crate::analysis::{OperatingPoint, validate};
-use crate::channel::Channel;
+use crate::checks::{self, runs::RunStart};
 use crate::parts::Parts;
 use crate::run_feed::RunChange;
 use crate::store::{
@@ -20,9 +20,10 @@ use crate::store::{
 };
 use crate::web::accounts::session::{CurrentUser, Editor};
 use crate::web::api::ApiJson;
-use crate::web::error::{ErrorBody, urlencode};
+use crate::web::error::ErrorBody;
 use crate::web::routes::{Access, Routes};
-use crate::web::runs::lookup::{LOADS, channels_of, default_channels};
+use crate::web::runs::lookup::default_channels;
+use crate::web::runs::page::{Submitted, refused};
 use crate::web::runs::readings_import::{ImportError, RowCheck, import_csv, json_rows};
 use crate::web::{AppError, AppState, Result};
 
@@ -159,19 +160,13 @@ async fn create_build(
     Editor(user): Editor,
     ApiJson(body): ApiJson<NewBuildBody>,
 ) -> Result<Response> {
-    let name = body.name.trim();
-    if name.is_empty() {
-        return Err(AppError::invalid("name", "give the build a name"));
-    }
-    too_long("name", name, 120)?;
-    too_long("purpose", &body.purpose, 4000)?;
-    too_long("notes", &body.notes, 20_000)?;
+    let checked = checks::builds::new_build(&body.name, &body.purpose, &body.notes)?;
     let build = state
         .store
         .create_build(&NewBuild {
-            name,
-            purpose: body.purpose.trim(),
-            notes: body.notes.trim(),
+            name: &checked.name,
+            purpose: &checked.purpose,
+            notes: &checked.notes,
             created_by: Some(user.user_id),
         })
         .await?;
@@ -390,73 +385,41 @@ async fn create_run(
 ) -> Result<Response> {
     let build = state.store.build_by_slug(&slug).await?;
     let revision = revision_in_body(&state, &build, "revision", &body.revision).await?;
-    for (field, value, max) in [
-        ("supply_voltage_v", body.supply_voltage_v, 10_000.0),
-        (
-            "supply_current_limit_a",
-            body.supply_current_limit_a,
-            1_000.0,
-        ),
-        ("water_mass_kg", body.water_mass_kg, 1_000.0),
-        (
-            "vessel_heat_capacity_j_per_k",
-            body.vessel_heat_capacity_j_per_k,
-            1e7,
-        ),
-    ] {
-        if let Some(v) = value
-            && !(v > 0.0 && v <= max)
-        {
-            return Err(AppError::invalid(
-                field,
-                format!("must be above 0 and at most {max}, got {v}"),
-            ));
-        }
-    }
-    if !LOADS.contains(&body.load.as_str()) {
-        return Err(AppError::invalid(
-            "load",
-            format!("one of {}", LOADS.join(", ")),
-        ));
-    }
-    if body.load == "water" && body.water_mass_kg.is_none() {
-        return Err(AppError::invalid(
-            "water_mass_kg",
-            "a water calorimeter run needs the mass of water",
-        ));
-    }
-    too_long("notes", &body.notes, 20_000)?;
     let operator = body
         .operator
         .as_deref()
-        .map(str::trim)
-        .unwrap_or(&user.display_name);
-    too_long("operator", operator, 120)?;
+        .unwrap_or(&user.display_name)
+        .to_string();
     let channels = match body.channels {
         None => default_channels(&revision.parts, &body.load),
-        Some(chosen) => {
-            let known: Vec<String> = channels_of(&revision.parts)
-                .iter()
-                .map(Channel::to_string)
-                .collect();
-            if chosen.is_empty() {
-                return Err(AppError::invalid("channels", "name at least one channel"));
-            }
-            if let Some((i, bad)) = chosen.iter().enumerate().find(|(_, c)| !known.contains(c)) {
-                return Err(AppError::invalid(
-                    format!("channels[{i}]"),
-                    format!("{bad} is not a channel of {}", revision.label()),
-                ));
-            }
-            chosen
-        }
+        Some(chosen) => chosen,
     };
+    let start = RunStart {
+        supply_setting_v: body.supply_voltage_v,
+        supply_current_limit_a: body.supply_current_limit_a,
+        load: &body.load,
+        water_mass_kg: body.water_mass_kg,
+        vessel_heat_capacity_j_per_k: body.vessel_heat_capacity_j_per_k,
+        notes: &body.notes,
+        operator: &operator,
+        channels: &channels,
+    };
+    let checked = checks::runs::start(&start, &revision.parts).map_err(|refused| {
+        // The API names the supply setting and the channel list as its body does.
+        let (field, message) = refused.first().unwrap_or(("body", "refused"));
+        let field = match field {
+            "supply_setting_v" => "supply_voltage_v",
+            "channel" => "channels",
+            other => other,
+        };
+        AppError::invalid(field, message)
+    })?;
     let id = state
         .store
         .create_run(&NewRun {
             build_id: build.id,
             revision_id: revision.id,
-            operator,
+            operator: &checked.operator,
             created_by: Some(user.user_id),
             started_at: None,
             supply_setting_v: body.supply_voltage_v,
@@ -464,7 +427,7 @@ async fn create_run(
             load: &body.load,
             water_mass_kg: body.water_mass_kg,
             vessel_heat_capacity_j_per_k: body.vessel_heat_capacity_j_per_k,
-            notes: body.notes.trim(),
+            notes: &checked.notes,
             channels: &channels,
         })
         .await?;
@@ -510,30 +473,12 @@ async fn finish_run(
 ) -> Result<Json<RunJson>> {
     let (build, run) = find_run(&state, id).await?;
     let revision = state.store.revision_by_id(run.revision_id).await?;
-    let failed_part = match (body.outcome, body.failed_part.as_deref().map(str::trim)) {
-        (Outcome::PartFailed, None | Some("")) => {
-            return Err(AppError::invalid("failed_part", "say which part failed"));
-        }
-        (Outcome::PartFailed, Some(part)) => {
-            match RowCheck::new(&revision.parts).channel(&format!("temp.{part}")) {
-                Ok(Channel::PartTemp { .. }) => Some(part.to_string()),
-                _ => {
-                    return Err(AppError::invalid(
-                        "failed_part",
-                        format!("{part:?} is not a part of {}", revision.label()),
-                    ));
-                }
-            }
-        }
-        (_, None) => None,
-        (_, Some(_)) => {
-            return Err(AppError::invalid(
-                "failed_part",
-                "only a run whose outcome is part_failed names a failed part",
-            ));
-        }
-    };
-    too_long("note", &body.note, 20_000)?;
+    let checked = checks::runs::finish(
+        body.outcome.as_str(),
+        body.failed_part.as_deref().unwrap_or(""),
+        &body.note,
+        &revision.parts,
+    )?;
     state
         .store
         .finish_run(
@@ -541,8 +486,8 @@ async fn finish_run(
             &RunFinish {
                 by: Some(user.user_id),
                 outcome: body.outcome,
-                failed_part: failed_part.as_deref(),
-                note: body.note.trim(),
+                failed_part: checked.failed_part.as_deref(),
+                note: &checked.note,
                 finished_at: None,
             },
         )
@@ -664,42 +609,43 @@ async fn upload_csv(
     }
     let revision = open_run(&state, &run).await?;
     let check = RowCheck::new(&revision.parts);
-    let back = |message: &str| {
-        let message = urlencode(message);
-        Redirect::to(&format!(
-            "/builds/{slug}/runs/{id}?error={message}&channel=csv#csv-upload"
-        ))
-        .into_response()
-    };
     let mut import = state.store.readings_import(run.id, Some(user.user_id));
-    loop {
+    let refusal = loop {
         let field = match multipart.next_field().await {
             Ok(Some(field)) => field,
-            Ok(None) => return Ok(back("choose a CSV file to import")),
-            Err(error) => return Ok(back(&error.body_text())),
+            Ok(None) => break "choose a CSV file to import".to_string(),
+            Err(error) => break error.body_text(),
         };
         if field.name() != Some("file") {
             continue;
         }
         if field.file_name().is_some_and(str::is_empty) {
-            return Ok(back("choose a CSV file to import"));
+            break "choose a CSV file to import".to_string();
         }
         match import_csv(field, CSV_LIMIT_BYTES, &check, &mut import).await {
-            Ok(()) => break,
-            Err(ImportError::Row(row)) => return Ok(back(&row.error)),
+            Ok(()) => {
+                let inserted = import.commit().await?;
+                state.run_feeds.notify(run.id, RunChange::Readings);
+                tracing::info!(inserted, "readings imported from the run page");
+                return Ok(
+                    Redirect::to(&format!("/builds/{slug}/runs/{id}#readings")).into_response()
+                );
+            }
+            Err(ImportError::Row(row)) => break row.error,
             Err(ImportError::TooLarge(limit)) => {
-                return Ok(back(&format!(
-                    "the file is larger than {} MiB",
-                    limit >> 20
-                )));
+                break format!("the file is larger than {} MiB", limit >> 20);
             }
             Err(ImportError::App(AppError::Invalid { message, .. }))
-            | Err(ImportError::App(AppError::BadRequest(message))) => return Ok(back(&message)),
+            | Err(ImportError::App(AppError::BadRequest(message))) => break message,
             Err(ImportError::App(error)) => return Err(error),
         }
-    }
-    let inserted = import.commit().await?;
-    state.run_feeds.notify(run.id, RunChange::Readings);
-    tracing::info!(inserted, "readings imported from the run page");
-    Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#readings")).into_response())
+    };
+    // Nothing of a refused file is kept: the import rolls back before the page is shown again.
+    drop(import);
+    let submitted = Submitted {
+        error: refusal,
+        error_channel: "csv".into(),
+        ..Submitted::default()
+    };
+    refused(&state, user, &slug, id, submitted).await
 }

@@ -3,6 +3,7 @@
 pub mod builds;
 pub mod logbook;
 pub mod model;
+pub mod voids;
 
 use axum::extract::rejection::JsonRejection;
 use axum::extract::{FromRequest, Request};

@@ -102,35 +102,26 @@ async fn create(
     Editor(user): Editor,
     Form(form): Form<NewBuildForm>,
 ) -> Result<Response> {
-    let name = form.name.trim();
-    let mut errors = FieldErrors::default();
-    if name.is_empty() {
-        errors.add("name", "give the build a name");
-    } else if name.chars().count() > 120 {
-        errors.add("name", "keep the name under 120 characters");
-    }
-    if form.purpose.len() > 4000 {
-        errors.add("purpose", "keep the purpose under 4000 characters");
-    }
-    if form.notes.len() > 20_000 {
-        errors.add("notes", "keep the notes under 20000 characters");
-    }
-    if !errors.is_empty() {
-        let page = NewPage {
-            chrome: Chrome::new("New build", &user),
-            name: form.name,
-            purpose: form.purpose,
-            notes: form.notes,
-            errors,
-        };
-        return Ok((axum::http::StatusCode::UNPROCESSABLE_ENTITY, page).into_response());
-    }
+    let checked = crate::checks::builds::new_build(&form.name, &form.purpose, &form.notes);
+    let checked = match checked {
+        Ok(checked) => checked,
+        Err(errors) => {
+            let page = NewPage {
+                chrome: Chrome::new("New build", &user),
+                name: form.name,
+                purpose: form.purpose,
+                notes: form.notes,
+                errors,
+            };
+            return Ok((axum::http::StatusCode::UNPROCESSABLE_ENTITY, page).into_response());
+        }
+    };
     let build = state
         .store
         .create_build(&NewBuild {
-            name,
-            purpose: form.purpose.trim(),
-            notes: form.notes.trim(),
+            name: &checked.name,
+            purpose: &checked.purpose,
+            notes: &checked.notes,
             created_by: Some(user.user_id),
         })
         .await?;

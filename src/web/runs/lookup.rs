@@ -7,39 +7,9 @@ use crate::store::{Build, Run, RunId};
 use crate::web::reader::Reader;
 use crate::web::{AppError, AppState, Result};
 
-pub const LOADS: [&str; 4] = ["none", "ferrous", "non_ferrous", "water"];
-
-/// Every channel a revision can log: the electrical ones, then each part's temperature (the
-/// role as a whole, and each unit where a role has several).
+/// Every channel a revision can log.
 pub fn channels_of(parts: &Parts) -> Vec<Channel> {
-    let mut channels = vec![
-        Channel::SupplyVoltage,
-        Channel::SupplyCurrent,
-        Channel::Frequency,
-        Channel::TankVoltage,
-        Channel::AmbientTemp,
-        Channel::WaterTemp,
-    ];
-    for role in [
-        Role::TankCapacitor,
-        Role::Switch,
-        Role::WorkCoil,
-        Role::Choke,
-        Role::GateResistor,
-    ] {
-        let quantity = parts.quantity(role);
-        if quantity == 0 {
-            continue;
-        }
-        channels.push(Channel::PartTemp { role, index: None });
-        if quantity > 1 {
-            channels.extend((1..=quantity.min(12)).map(|n| Channel::PartTemp {
-                role,
-                index: Some(n),
-            }));
-        }
-    }
-    channels
+    crate::checks::runs::loggable_channels(parts)
 }
 
 /// What a first run of a revision logs unless the operator says otherwise.

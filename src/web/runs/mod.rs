@@ -6,7 +6,7 @@ pub mod digests;
 mod entry;
 mod live;
 pub mod lookup;
-mod page;
+pub mod page;
 pub mod readings_import;
 mod set;
 mod start;
@@ -45,6 +45,16 @@ pub fn router() -> Routes {
             "/builds/{slug}/runs/{id}/readings/{reading}/correct",
             Access::Editor,
             entry::correct_reading,
+        )
+        .post(
+            "/builds/{slug}/runs/{id}/readings/{reading}/void",
+            Access::Editor,
+            entry::void_reading,
+        )
+        .post(
+            "/builds/{slug}/runs/{id}/readings/{reading}/restore",
+            Access::Editor,
+            entry::restore_reading,
         )
         .post(
             "/builds/{slug}/runs/{id}/finish",

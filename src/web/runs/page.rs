@@ -6,12 +6,14 @@ use std::collections::HashMap;
 use askama::Template;
 use askama_web::WebTemplate;
 use axum::extract::{Path, Query, State};
+use axum::http::StatusCode;
+use axum::response::{IntoResponse, Response};
 use serde::Deserialize;
 
 use crate::analysis::entry_order::entry_order;
 use crate::analysis::reading_set::FieldError;
 use crate::channel::Channel;
-use crate::store::{Build, EventMark, Outcome, ReadingRow, Run, now_unix_s};
+use crate::store::{Build, EventMark, Outcome, ReadingRow, Run, SessionUser, now_unix_s};
 use crate::units::Unit;
 use crate::web::chrome::Chrome;
 use crate::web::reader::Reader;
@@ -48,8 +50,11 @@ pub(super) struct ShowPage {
     failed_part_choices: Vec<(String, String)>,
     outcome_title: String,
     failed_part_title: String,
+    /// A refusal of a correction, a void, an import or the finish, beside its form (never
+    /// carried in the address), and a confirmation (which unit a bare number was read in).
     error: String,
     error_channel: String,
+    notice: String,
     analysis: AnalysisView,
     attachments: Vec<crate::web::attachments::AttachmentView>,
     /// For the page's script: the server's clock (Unix ms) when the page was made, the run's
@@ -88,6 +93,9 @@ struct TableLine {
     value: String,
     corrected_from: Vec<String>,
     is_mark: bool,
+    /// Why it was voided; empty for a reading in use.
+    void_reason: String,
+    voided: bool,
 }
 
 struct MarkLine {
@@ -98,25 +106,30 @@ struct MarkLine {
 
 /// What the user sent that the page shows again: typed values and the refusals.
 #[derive(Default)]
-pub(super) struct Submitted {
+pub(crate) struct Submitted {
     pub values: HashMap<String, String>,
     pub time: String,
     pub errors: Vec<FieldError>,
     pub mark_text: String,
     pub mark_error: String,
+    /// A refusal of another form of the page (a correction, a void, a CSV file, the finish)
+    /// and the form it belongs to.
+    pub error: String,
+    pub error_channel: String,
+    /// A confirmation, e.g. which unit a bare frequency was read in.
+    pub notice: String,
 }
 
 #[derive(Deserialize, Default)]
 pub(super) struct ShowQuery {
-    #[serde(default)]
-    error: String,
-    #[serde(default)]
-    channel: String,
     /// After a set went in without script: how many and the time since the start.
     #[serde(default)]
     logged: Option<u32>,
     #[serde(default)]
     at: Option<f64>,
+    /// The unit a bare frequency of that set was read in.
+    #[serde(default)]
+    read_as: String,
     /// Page of the readings table (1 is the newest).
     #[serde(default)]
     page: Option<i64>,
@@ -133,6 +146,13 @@ pub(super) async fn show(
         (Some(n), Some(at)) if at.is_finite() => format!("logged {n} at {}", minutes_seconds(at)),
         _ => String::new(),
     };
+    // Only the two units the frequency field reads, never text from the address.
+    let logged = match query.read_as.as_str() {
+        unit @ ("kHz" | "Hz") if !logged.is_empty() => {
+            format!("{logged}; the frequency was read as {unit}")
+        }
+        _ => logged,
+    };
     let mut page = render(
         &state,
         &reader,
@@ -143,9 +163,21 @@ pub(super) async fn show(
     )
     .await?;
     page.entry.logged = logged;
-    page.error = query.error.chars().take(200).collect();
-    page.error_channel = query.channel;
     Ok(page)
+}
+
+/// The run page again with status 422: the message beside the refused form; nothing was saved.
+pub(crate) async fn refused(
+    state: &AppState,
+    user: SessionUser,
+    slug: &str,
+    id: i64,
+    submitted: Submitted,
+) -> Result<Response> {
+    let reader = Reader::User(user);
+    let (build, run) = reader_build_and_run(state, &reader, slug, id).await?;
+    let page = render(state, &reader, build, run, submitted, None).await?;
+    Ok((StatusCode::UNPROCESSABLE_ENTITY, page).into_response())
 }
 
 fn format_reading(name: &str, value: f64) -> String {
@@ -181,7 +213,9 @@ pub(super) async fn render(
         analysis.live = memo.live_rows_at(now_s);
     }
     let reading_count = memo.reading_count;
-    let pages = ((reading_count + READINGS_PER_PAGE - 1) / READINGS_PER_PAGE).max(1);
+    // The table also lists voided readings (struck through), so it may run to more pages.
+    let table_rows = state.store.table_reading_count(run.id).await?;
+    let pages = ((table_rows + READINGS_PER_PAGE - 1) / READINGS_PER_PAGE).max(1);
     let page = page.unwrap_or(1).clamp(1, pages);
     let rows = state
         .store
@@ -189,6 +223,11 @@ pub(super) async fn render(
         .await?;
     let lines = table_lines(state, &rows, &live_marks, page == 1).await?;
     let last_reading_id = state.store.last_reading_id(run.id).await?;
+    let (error, error_channel, notice) = (
+        submitted.error.clone(),
+        submitted.error_channel.clone(),
+        submitted.notice.clone(),
+    );
     let entry = entry_form(state, &run, &revision, &memo.last_values, submitted).await?;
     let failed_part_choices = channels_of(&revision.parts)
         .into_iter()
@@ -234,8 +273,9 @@ pub(super) async fn render(
             .map(|o| o.title().to_string())
             .unwrap_or_default(),
         failed_part_title,
-        error: String::new(),
-        error_channel: String::new(),
+        error,
+        error_channel,
+        notice,
         analysis,
         attachments: crate::web::attachments::views_of_run(
             state,
@@ -280,6 +320,8 @@ async fn table_lines(
                 value: format_reading(&r.channel, r.value),
                 corrected_from,
                 is_mark: false,
+                void_reason: r.void_reason.clone(),
+                voided: r.voided_at.is_some(),
             },
         ));
     }
@@ -299,6 +341,8 @@ async fn table_lines(
                 value: m.text.clone(),
                 corrected_from: Vec::new(),
                 is_mark: true,
+                void_reason: String::new(),
+                voided: false,
             },
         ));
     }

@@ -15,8 +15,9 @@ use serde::de::{DeserializeSeed, IgnoredAny, SeqAccess, Visitor};
 use serde::{Deserializer, Serialize};
 use serde_json::Value;
 
-use crate::analysis::sent_entry::{check_elapsed_s, check_sender_id};
+use crate::analysis::sent_entry::check_sender_id;
 use crate::channel::Channel;
+use crate::checks::readings::ReadingBounds;
 use crate::parts::Parts;
 use crate::store::{NewReading, ReadingsImport, StoreError};
 use crate::web::AppError;
@@ -86,9 +87,10 @@ impl From<StoreError> for ImportError {
     }
 }
 
-/// The checks of one run: its revision's parts decide which part temperatures exist.
+/// The checks of one run, as a script or an import sends it (SI units, frequency in Hz, times
+/// within a week of the start).
 pub struct RowCheck<'a> {
-    parts: &'a Parts,
+    bounds: ReadingBounds<'a>,
 }
 
 /// The column at fault (none when the row as a whole is) and what is wrong with it.
@@ -100,31 +102,14 @@ fn refusal(column: &'static str, message: impl Into<String>) -> Refusal {
 
 impl<'a> RowCheck<'a> {
     pub fn new(parts: &'a Parts) -> RowCheck<'a> {
-        RowCheck { parts }
+        RowCheck {
+            bounds: ReadingBounds::script(parts),
+        }
     }
 
     /// A channel of this run's revision.
     pub fn channel(&self, name: &str) -> Result<Channel, String> {
-        // Error messages quote the name; a long one is no channel and is not echoed back.
-        if name.len() > MAX_ECHO_CHARS {
-            return Err("unknown channel (the name is far too long)".into());
-        }
-        let channel: Channel = name
-            .parse()
-            .map_err(|e: crate::channel::UnknownChannel| e.to_string())?;
-        if let Channel::PartTemp { role, index } = channel {
-            let quantity = self.parts.quantity(role);
-            let role = role.title().to_lowercase();
-            if quantity == 0 {
-                return Err(format!("this revision has no {role}"));
-            }
-            if let Some(n) = index.filter(|n| *n > quantity) {
-                return Err(format!(
-                    "this revision has {quantity} of {role}; there is no number {n}"
-                ));
-            }
-        }
-        Ok(channel)
+        self.bounds.channel(name)
     }
 
     /// Checks a row given as text (a CSV record), column by column in order.
@@ -135,10 +120,10 @@ impl<'a> RowCheck<'a> {
                 .map_err(|_| refusal(column, "not a number"))
         };
         let t_s = number("t_s", t_s)?;
-        check_t_s(t_s)?;
+        let t_s = self.bounds.t_s(t_s).map_err(|m| refusal("t_s", m))?;
         let channel = self.channel(channel).map_err(|m| refusal("channel", m))?;
         let value = number("value", value)?;
-        reading(t_s, channel, value)
+        self.reading(t_s, channel, value)
     }
 
     /// Checks a row given as a JSON object, column by column in order.
@@ -168,7 +153,7 @@ impl<'a> RowCheck<'a> {
             Some(_) => Err(refusal(column, "not a number")),
         };
         let t_s = number("t_s")?;
-        check_t_s(t_s)?;
+        let t_s = self.bounds.t_s(t_s).map_err(|m| refusal("t_s", m))?;
         let channel = match object.get("channel") {
             None | Some(Value::Null) => return Err(refusal("channel", "missing")),
             Some(Value::String(name)) => self.channel(name).map_err(|m| refusal("channel", m))?,
@@ -184,34 +169,24 @@ impl<'a> RowCheck<'a> {
         };
         Ok(NewReading {
             client_id,
-            ..reading(t_s, channel, value)?
+            ..self.reading(t_s, channel, value)?
         })
     }
 }
 
-fn check_t_s(t_s: f64) -> Result<(), Refusal> {
-    check_elapsed_s(t_s).map_err(|m| refusal("t_s", m))?;
-    Ok(())
-}
-
-fn reading(t_s: f64, channel: Channel, value: f64) -> Result<NewReading, Refusal> {
-    if !value.is_finite() {
-        return Err(refusal("value", "must be a finite number"));
+impl RowCheck<'_> {
+    fn reading(&self, t_s: f64, channel: Channel, value: f64) -> Result<NewReading, Refusal> {
+        let value = self
+            .bounds
+            .value(channel, value)
+            .map_err(|m| refusal("value", m))?;
+        Ok(NewReading {
+            t_s,
+            channel: channel.to_string(),
+            value,
+            client_id: None,
+        })
     }
-    let (low, high) = channel.plausible_range();
-    if !(low..=high).contains(&value) {
-        let unit = channel.quantity().unit();
-        return Err(refusal(
-            "value",
-            format!("{value} {unit} is outside the plausible range {low} to {high} {unit}"),
-        ));
-    }
-    Ok(NewReading {
-        t_s,
-        channel: channel.to_string(),
-        value,
-        client_id: None,
-    })
 }
 
 /// Checks a JSON array of rows, one element at a time (no tree of the whole body is built).

@@ -16,6 +16,7 @@ use crate::analysis::entry_order::{entry_order, move_earlier};
 use crate::analysis::event_mark::check_event_mark;
 use crate::analysis::reading_set::{FieldError, check_reading_set};
 use crate::channel::Channel;
+use crate::checks::readings::ReadingBounds;
 use crate::run_feed::RunChange;
 use crate::store::{MarkStored, NewEventMark, NewReading, Run, StoreError};
 use crate::web::accounts::session::Editor;
@@ -99,7 +100,9 @@ pub(super) async fn add_set(
         .iter()
         .filter_map(|n| n.parse().ok())
         .collect();
-    let set = match check_reading_set(&fields, &channels, elapsed_now_s(&run)) {
+    let revision = state.store.revision_by_id(run.revision_id).await?;
+    let bounds = ReadingBounds::page(&revision.parts, elapsed_now_s(&run));
+    let set = match check_reading_set(&fields, &channels, &bounds) {
         Ok(set) => set,
         Err(errors) => {
             let values: HashMap<String, String> = fields
@@ -143,18 +146,24 @@ pub(super) async fn add_set(
         state.run_feeds.notify(run.id, RunChange::Readings);
     }
     let at_s = set.iter().map(|r| r.t_s).fold(0.0, f64::max);
+    // Which unit a bare frequency was read in, said in the confirmation.
+    let assumed = set.iter().find_map(|r| r.assumed);
     tracing::info!(logged, already_stored, "set logged");
     if json {
         return Ok(Json(serde_json::json!({
             "logged": logged,
             "already_stored": already_stored,
             "at": minutes_seconds(at_s),
+            "frequency_read_as": assumed,
             "server_ms": server_ms(),
         }))
         .into_response());
     }
+    let read_as = assumed
+        .map(|unit| format!("&read_as={unit}"))
+        .unwrap_or_default();
     Ok(Redirect::to(&format!(
-        "/builds/{slug}/runs/{id}?logged={}&at={at_s:.0}#entry",
+        "/builds/{slug}/runs/{id}?logged={}&at={at_s:.0}{read_as}#entry",
         readings.len()
     ))
     .into_response())

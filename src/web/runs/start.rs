@@ -8,8 +8,8 @@ use axum::http::StatusCode;
 use axum::response::{IntoResponse, Redirect, Response};
 use serde::Deserialize;
 
-use super::lookup::{LOADS, channels_of, default_channels};
-use crate::channel::Channel;
+use super::lookup::{channels_of, default_channels};
+use crate::checks::{self, runs::RunStart};
 use crate::parts::Parts;
 use crate::store::{Build, NewRun, Revision, Run};
 use crate::units::Unit;
@@ -200,43 +200,27 @@ pub(super) async fn create(
         "vessel_heat_capacity_j_per_k",
         &mut errors,
     );
-    for (name, value, max) in [
-        ("supply_setting_v", supply, 10_000.0),
-        ("supply_current_limit_a", limit, 1_000.0),
-        ("water_mass_kg", water, 1_000.0),
-        ("vessel_heat_capacity_j_per_k", vessel, 1e7),
-    ] {
-        if let Some(v) = value
-            && (v <= 0.0 || v > max)
-        {
-            errors.add(name, format!("must be above 0 and at most {max}"));
+    let start = RunStart {
+        supply_setting_v: supply,
+        supply_current_limit_a: limit,
+        load: &form.load,
+        water_mass_kg: water,
+        vessel_heat_capacity_j_per_k: vessel,
+        notes: &form.notes,
+        operator: &user.display_name,
+        channels: &chosen,
+    };
+    let checked = match checks::runs::start(&start, &revision.parts) {
+        Ok(checked) => Some(checked),
+        Err(refused) => {
+            for (field, message) in refused.0 {
+                // A number that did not parse keeps its own message.
+                errors.add(&field, message);
+            }
+            None
         }
-    }
-    if !LOADS.contains(&form.load.as_str()) {
-        errors.add("load", "choose a load");
-    }
-    if form.load == "water" && water.is_none() {
-        errors.add(
-            "water_mass_kg",
-            "a water calorimeter run needs the mass of water",
-        );
-    }
-    let known: Vec<String> = channels_of(&revision.parts)
-        .iter()
-        .map(Channel::to_string)
-        .collect();
-    if chosen.is_empty() {
-        errors.add("channel", "choose at least one channel to log");
-    } else if let Some(bad) = chosen.iter().find(|c| !known.contains(c)) {
-        errors.add(
-            "channel",
-            format!("{bad} is not a channel of this revision"),
-        );
-    }
-    if form.notes.len() > 20_000 {
-        errors.add("notes", "keep the notes under 20000 characters");
-    }
-    if !errors.is_empty() {
+    };
+    let Some(checked) = checked.filter(|_| errors.is_empty()) else {
         let revisions = state.store.revisions_of_build(build.id).await?;
         let page = NewPage {
             chrome: Chrome::new(format!("New run of {}", build.name), &user),
@@ -248,7 +232,7 @@ pub(super) async fn create(
             build,
         };
         return Ok((StatusCode::UNPROCESSABLE_ENTITY, page).into_response());
-    }
+    };
     let id = state
         .store
         .create_run(&NewRun {
@@ -262,7 +246,7 @@ pub(super) async fn create(
             load: &form.load,
             water_mass_kg: water,
             vessel_heat_capacity_j_per_k: vessel,
-            notes: form.notes.trim(),
+            notes: &checked.notes,
             channels: &chosen,
         })
         .await?;
