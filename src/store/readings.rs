@@ -160,8 +160,8 @@ impl Store {
         .collect())
     }
 
-    /// One page of a run's current values, newest first (by time), and the replaced values of
-    /// those rows: a page that shows the latest few dozen never reads the whole run.
+    /// One page of a run's current values, the latest logged first: a page that shows the
+    /// latest few dozen never reads (or sorts) the whole run.
     pub async fn readings_page(
         &self,
         run_id: RunId,
@@ -173,7 +173,7 @@ impl Store {
              FROM readings r
              WHERE r.run_id = ?
                AND NOT EXISTS (SELECT 1 FROM readings c WHERE c.corrects_id = r.id)
-             ORDER BY r.t_s DESC, r.id DESC LIMIT ? OFFSET ?",
+             ORDER BY r.id DESC LIMIT ? OFFSET ?",
         )
         .bind(run_id)
         .bind(limit)

@@ -44,6 +44,7 @@ pub struct ModelPanel {
 }
 
 /// A flag as a page shows it.
+#[derive(Clone)]
 pub struct FlagView {
     pub code: &'static str,
     pub severity: &'static str,
