@@ -487,8 +487,11 @@ async fn the_report_has_the_parts_the_runs_the_charts_and_the_cautions() {
     }
     // The print stylesheet is linked.
     assert_eq!(
-        page.attr("link[href='/static/print.css']", "media")
-            .as_deref(),
+        page.attr(
+            &format!("link[href='{}']", eddybench::web::assets::url("print.css")),
+            "media"
+        )
+        .as_deref(),
         Some("print")
     );
 }

@@ -174,6 +174,36 @@ impl Store {
         .await?)
     }
 
+    /// One page of a build's runs, newest first: `limit` runs after skipping `skip`, of one
+    /// revision when `revision_number` is given. Also returns how many runs there are in all.
+    pub async fn runs_of_build_page(
+        &self,
+        build_id: BuildId,
+        revision_number: Option<i64>,
+        limit: i64,
+        skip: i64,
+    ) -> StoreResult<(Vec<Run>, i64)> {
+        let runs = sqlx::query_as(AssertSqlSafe(format!(
+            "{RUN_SELECT} WHERE u.build_id = ?1 AND (?2 IS NULL OR r.number = ?2)
+             ORDER BY u.started_at DESC, u.id DESC LIMIT ?3 OFFSET ?4"
+        )))
+        .bind(build_id)
+        .bind(revision_number)
+        .bind(limit)
+        .bind(skip)
+        .fetch_all(&self.pool)
+        .await?;
+        let total = sqlx::query_scalar(
+            "SELECT COUNT(*) FROM runs u JOIN revisions r ON r.id = u.revision_id
+             WHERE u.build_id = ?1 AND (?2 IS NULL OR r.number = ?2)",
+        )
+        .bind(build_id)
+        .bind(revision_number)
+        .fetch_one(&self.pool)
+        .await?;
+        Ok((runs, total))
+    }
+
     /// The latest run made on a revision, to pre-fill the next one.
     pub async fn latest_run_of_revision(
         &self,

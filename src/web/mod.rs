@@ -4,6 +4,7 @@
 
 mod accounts;
 pub mod api;
+pub mod assets;
 mod attachments;
 mod builds;
 mod chrome;
@@ -26,7 +27,6 @@ use tower_http::compression::{CompressionLayer, CompressionLevel, predicate::Def
 use axum::Router;
 use axum::extract::{FromRef, State};
 use axum::middleware;
-use tower_http::services::ServeDir;
 
 use crate::config::Config;
 use crate::store::Store;
@@ -98,10 +98,10 @@ const GZIP_LEVEL: i32 = 1;
 
 /// The whole application: every area's routes behind the middleware stack.
 pub fn app(state: AppState) -> Router {
-    let static_dir = concat!(env!("CARGO_MANIFEST_DIR"), "/static");
     all_routes()
         .router
-        .nest_service("/static", ServeDir::new(static_dir))
+        // Embedded in the binary (see assets.rs): open to all, like the sign-in page.
+        .route("/static/{file}", axum::routing::get(assets::serve))
         // Forms and JSON bodies; the routes that take more (readings, pictures) set their own.
         .layer(axum::extract::DefaultBodyLimit::max(
             REQUEST_BODY_LIMIT_BYTES,

@@ -1,6 +1,7 @@
 //! The builds list, a new build, and a build's page.
 
 pub mod export;
+pub mod runs_list;
 pub mod view;
 
 use askama::Template;
@@ -34,6 +35,8 @@ pub fn router() -> Routes {
         .get("/builds/{slug}", Access::Viewer, show)
         // A share link's overview; `{slug}` is the link's token there (see reader.rs).
         .get("/s/{slug}", Access::Share, show)
+        .get("/builds/{slug}/runs", Access::Viewer, runs_list::show)
+        .get("/s/{slug}/runs", Access::Share, runs_list::show)
 }
 
 #[derive(Template, WebTemplate)]
@@ -135,6 +138,8 @@ struct ShowPage {
     build: Build,
     revisions: Vec<RevisionLine>,
     runs: Vec<RunLine>,
+    /// More runs than the page shows: a link to the older ones.
+    older_runs: bool,
     health: Option<BuildHealth>,
     charts: Vec<ChartView>,
     revision_labels: Vec<String>,
@@ -219,7 +224,12 @@ async fn render_show(state: &AppState, reader: &Reader, build: Build) -> Result<
         build_health(label, &current)
     });
     let charts = build_charts(&build.slug, &digests);
-    let runs: Vec<&Run> = all_runs.iter().rev().take(50).collect();
+    let older_runs = all_runs.len() as i64 > runs_list::RUNS_PER_PAGE;
+    let runs: Vec<&Run> = all_runs
+        .iter()
+        .rev()
+        .take(runs_list::RUNS_PER_PAGE as usize)
+        .collect();
     let chrome = reader.chrome(build.name.clone(), &build);
     // Share pages show no links, no names of who changed what.
     let shares = match chrome.can_edit() {
@@ -262,6 +272,7 @@ async fn render_show(state: &AppState, reader: &Reader, build: Build) -> Result<
             })
             .collect(),
         runs: runs.into_iter().map(RunLine::from_run).collect(),
+        older_runs,
         build,
     })
 }
