@@ -181,11 +181,28 @@ fn suffix_scale(suffix: &str, unit: Unit) -> Option<f64> {
 pub struct Engineering {
     pub value: f64,
     pub unit: Unit,
+    /// Significant figures: 3 for most quantities, 4 where a drift of tenths of a percent
+    /// matters (frequency, inferred capacitance).
+    pub figures: u8,
 }
 
-/// Shorthand for `Engineering { value, unit }`.
+/// Shorthand for `Engineering { value, unit }` with three significant figures.
 pub fn eng(value: f64, unit: Unit) -> Engineering {
-    Engineering { value, unit }
+    Engineering {
+        value,
+        unit,
+        figures: 3,
+    }
+}
+
+/// Four significant figures: 125.5 kHz and 125.9 kHz stay apart, as the capacitance inferred
+/// from them must.
+pub fn eng_precise(value: f64, unit: Unit) -> Engineering {
+    Engineering {
+        value,
+        unit,
+        figures: 4,
+    }
 }
 
 impl fmt::Display for Engineering {
@@ -197,7 +214,7 @@ impl fmt::Display for Engineering {
             return write!(f, "{value}{space}{symbol}");
         }
         if !self.unit.takes_prefix() || value == 0.0 {
-            return write!(f, "{}{space}{symbol}", three_significant(value));
+            return write!(f, "{}{space}{symbol}", significant(value, self.figures));
         }
         let exponent = (value.abs().log10() / 3.0).floor() as i32 * 3;
         let exponent = exponent.clamp(-12, 9);
@@ -213,14 +230,14 @@ impl fmt::Display for Engineering {
         };
         let scaled = value / 10f64.powi(exponent);
         // Rounding 999.7 to three figures gives 1000: step up a prefix instead.
-        if three_significant(scaled) == "1000" && exponent < 9 {
-            return write!(f, "{}", eng_at(value, exponent + 3, symbol));
+        if significant(scaled, self.figures) == "1000" && exponent < 9 {
+            return write!(f, "{}", eng_at(value, exponent + 3, symbol, self.figures));
         }
-        write!(f, "{} {prefix}{symbol}", three_significant(scaled))
+        write!(f, "{} {prefix}{symbol}", significant(scaled, self.figures))
     }
 }
 
-fn eng_at(value: f64, exponent: i32, symbol: &str) -> String {
+fn eng_at(value: f64, exponent: i32, symbol: &str, figures: u8) -> String {
     let prefix = match exponent {
         -9 => "n",
         -6 => "µ",
@@ -232,17 +249,34 @@ fn eng_at(value: f64, exponent: i32, symbol: &str) -> String {
     };
     format!(
         "{} {prefix}{symbol}",
-        three_significant(value / 10f64.powi(exponent))
+        significant(value / 10f64.powi(exponent), figures)
     )
+}
+
+/// A signed number with `decimals` places and a true minus sign (U+2212), as a page prints a
+/// change: +1.3, −0.2, 0.0.
+pub fn signed(value: f64, decimals: usize) -> String {
+    let text = format!("{:.decimals$}", value.abs());
+    let zero = text.chars().all(|c| c == '0' || c == '.');
+    match (zero, value < 0.0) {
+        (true, _) => text,
+        (false, true) => format!("−{text}"),
+        (false, false) => format!("+{text}"),
+    }
 }
 
 /// Three significant figures without trailing zeros: 470, 1.2, 0.0331, 12.5.
 pub fn three_significant(value: f64) -> String {
+    significant(value, 3)
+}
+
+/// `figures` significant figures without trailing zeros.
+pub fn significant(value: f64, figures: u8) -> String {
     if value == 0.0 {
         return "0".into();
     }
     let magnitude = value.abs().log10().floor() as i32;
-    let decimals = (2 - magnitude).max(0) as usize;
+    let decimals = (i32::from(figures) - 1 - magnitude).max(0) as usize;
     let text = format!("{value:.decimals$}");
     if text.contains('.') {
         text.trim_end_matches('0').trim_end_matches('.').to_string()
@@ -323,6 +357,14 @@ mod tests {
         assert_eq!(eng(8e-3, Unit::Ohm).to_string(), "8 mΩ");
         assert_eq!(eng(16.0, Unit::Ampere).to_string(), "16 A");
         assert_eq!(eng(159_154.9, Unit::Hertz).to_string(), "159 kHz");
+        assert_eq!(signed(-1.34, 1), "−1.3");
+        assert_eq!(signed(0.04, 1), "0.0");
+        assert_eq!(signed(2.0, 2), "+2.00");
+        // Four figures keep a drift of a tenth of a percent visible.
+        assert_eq!(eng_precise(125_549.0, Unit::Hertz).to_string(), "125.5 kHz");
+        assert_eq!(eng_precise(125_949.0, Unit::Hertz).to_string(), "125.9 kHz");
+        assert_eq!(eng_precise(330.5e-9, Unit::Farad).to_string(), "330.5 nF");
+        assert_eq!(eng_precise(999.97e3, Unit::Hertz).to_string(), "1 MHz");
         assert_eq!(eng(0.9997e-6, Unit::Farad).to_string(), "1 µF");
         assert_eq!(eng(85.0, Unit::Celsius).to_string(), "85 °C");
         assert_eq!(eng(0.0, Unit::Volt).to_string(), "0 V");

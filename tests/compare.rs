@@ -199,12 +199,17 @@ async fn the_compare_page_reads_as_rows_and_marks_the_better_revision() {
         assert!(seen >= 5, "{section} has {seen} rows");
     }
 
-    // The polyester bank cooks; the polypropylene one runs cool: r2 is better on both counts.
+    // The polyester bank cooked on r1 and r2 runs cool, but r1's runs were idle at 17.9 V and
+    // r2's idle runs at 23.9 V: not comparable, and the page says why instead of "better".
     for key in ["t-max-tank_capacitor", "margin-tank_capacitor"] {
         let cells = row_cells(&page, "#measured-rows", key);
-        assert!(!cells[0].2 && cells[1].2, "{key}: {cells:?}");
-        assert!(cells[1].1.contains("✓ better"), "{cells:?}");
-        assert!(!cells[0].1.contains("better"), "{cells:?}");
+        assert!(cells[0].1.contains("baseline"), "{key}: {cells:?}");
+        assert!(!cells.iter().any(|c| c.2), "{key}: {cells:?}");
+        assert!(
+            cells[1].1.contains("not comparable with r1")
+                && cells[1].1.contains("17.9 V against 23.9 V"),
+            "{key}: {cells:?}"
+        );
     }
     // Neutral rows are never marked.
     let runs = row_cells(&page, "#measured-rows", "runs");
@@ -254,9 +259,26 @@ async fn the_picker_form_and_the_comma_list_give_the_same_page() {
         picked
             .attr("#parts-diff article.step", "data-from")
             .as_deref(),
-        Some("r4"),
-        "in the order given"
+        Some("r3"),
+        "older to newer, whatever the order picked"
     );
+    // The oldest is the baseline until another is chosen.
+    assert_eq!(
+        picked.select_texts(".baseline-picker strong"),
+        ["r3"],
+        "{:?}",
+        picked.select_texts(".baseline-picker")
+    );
+    let on_r4 = app
+        .get(
+            &format!("/builds/{SLUG}/compare?revs=r3,r4&base=r4"),
+            Some(&session),
+        )
+        .await;
+    assert_eq!(on_r4.select_texts(".baseline-picker strong"), ["r4"]);
+    let cells = row_cells(&on_r4, "#measured-rows", "t-max-tank_capacitor");
+    assert!(cells[1].1.contains("baseline"), "{cells:?}");
+    assert!(!cells[0].1.contains("baseline"), "{cells:?}");
     // r4 runs from 36 V: the common supply is the highest nominal one.
     assert!(picked.select_texts("#model h2")[0].contains("36 V"));
 

@@ -30,6 +30,33 @@ pub struct Flag {
     pub source: &'static str,
 }
 
+/// The title a practitioner would give a finding, by its rule. Pages show this, never the rule.
+pub fn flag_title(code: &str) -> &'static str {
+    match code {
+        "cap-overtemp" => "Tank capacitor too hot",
+        "cap-self-heating" => "Tank capacitor heating itself",
+        "cap-current" => "Tank capacitor current near its rating",
+        "cap-voltage" => "Tank voltage near the capacitors' rating",
+        "cap-drift" => "Tank capacitance off nominal",
+        "cap-limit-assumed" => "Capacitor temperature rating assumed",
+        "switch-voltage" => "Switch voltage near its rating",
+        "switch-overtemp" => "Switch junction too hot",
+        "switch-tempco-missing" => "Switch resistance taken at 25 °C",
+        "gate-overvoltage" => "Gate voltage above its maximum",
+        "gate-resistor-power" => "Gate resistor near its power rating",
+        "choke-saturation" => "Choke close to saturation",
+        "choke-ratio" => "Choke small against the coil",
+        "coil-proximity" => "Coil loss underestimated",
+        "loss-exceeds-input" => "Losses exceed the input power",
+        "supply-limit" => "Supply in current limit",
+        "no-oscillation" => "No oscillation recorded",
+        "part-overtemp" => "Part over its temperature limit",
+        "time-to-limit" => "Heading for its temperature limit",
+        "part-degrading" => "Part wearing out",
+        _ => "Finding",
+    }
+}
+
 /// A limit and where it came from: the part's own rating, else the default threshold.
 fn limit_or_default(own: Option<f64>, default: Threshold) -> (f64, &'static str, bool) {
     match own {

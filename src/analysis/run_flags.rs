@@ -119,8 +119,17 @@ fn title_of(result: &ThermalResult) -> String {
 /// `cap-overtemp` for tank capacitors (failure at or above the limit, warning within 10 K) and
 /// `part-overtemp` (failure) for other parts at or above theirs, from the measured maximum.
 pub fn overtemp_flags(thermal: &[ThermalResult]) -> Vec<Flag> {
-    thermal
-        .iter()
+    // Least margin first (the hotter first among equals): one flag is kept per part kind, and
+    // it must name the unit that went furthest past its limit, not the first one listed.
+    let mut by_margin: Vec<&ThermalResult> = thermal.iter().collect();
+    by_margin.sort_by(|a, b| {
+        let margin = |r: &ThermalResult| r.margin_k.unwrap_or(f64::INFINITY);
+        margin(a)
+            .total_cmp(&margin(b))
+            .then(b.t_max_c.total_cmp(&a.t_max_c))
+    });
+    by_margin
+        .into_iter()
         .filter_map(|r| {
             let (limit_c, margin_k) = r.limit_c.zip(r.margin_k)?;
             let title = title_of(r);

@@ -97,16 +97,24 @@ fn thermal_row(t: &ThermalResult) -> ThermalRow {
         limit: t.limit_c.map(celsius).unwrap_or_else(|| "—".into()),
         limit_basis: basis_text(t.limit_basis),
         margin: t.margin_k.map(kelvin).unwrap_or_else(|| "—".into()),
+        // An untrusted fit shows no number: its caveat says why.
         fit: t
             .fit
             .as_ref()
+            .filter(|f| f.is_trusted())
             .map(|f| {
                 format!(
                     "{:.1} → {:.1} °C, τ {:.0} s, rms {:.2} K",
                     f.t_start_c, f.t_final_c, f.tau_s, f.rmse_k
                 )
             })
-            .unwrap_or_else(|| "—".into()),
+            .unwrap_or_else(|| {
+                if t.fit.is_some() {
+                    "not trusted".into()
+                } else {
+                    "—".into()
+                }
+            }),
         predicted_margin: t
             .predicted_margin_k
             .map(kelvin)
