@@ -7,6 +7,7 @@ use super::limits::{self, Threshold};
 use super::model::{ModelReport, OperatingPoint};
 use crate::parts::{Parts, Role};
 use crate::physics::capacitor;
+use crate::units::{Unit, eng_precise};
 
 /// How bad a finding is. Ordered: `Note < Warning < Failure`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
@@ -220,13 +221,17 @@ fn tank_capacitor(parts: &Parts, op: &OperatingPoint, report: &ModelReport, foun
         };
         if let Some((severity, source)) = severity {
             let direction = if drift < 0.0 { "below" } else { "above" };
+            // Four figures and tenths of a percent: the drift is the finding.
             let message = format!(
-                "Tank capacitance inferred from the measured {:.2} kHz is {:.3} µF, {:.1} % {direction} \
-                 the nominal {:.3} µF",
-                op.frequency_hz.unwrap_or(f64::NAN) / 1e3,
-                report.inferred_tank_capacitance_f.unwrap_or(f64::NAN) * 1e6,
+                "Tank capacitance inferred from the measured {} is {}, {:.1}\u{a0}% {direction} \
+                 the nominal {}",
+                eng_precise(op.frequency_hz.unwrap_or(f64::NAN), Unit::Hertz),
+                eng_precise(
+                    report.inferred_tank_capacitance_f.unwrap_or(f64::NAN),
+                    Unit::Farad
+                ),
                 100.0 * drift.abs(),
-                report.tank_capacitance_f.unwrap_or(f64::NAN) * 1e6,
+                eng_precise(report.tank_capacitance_f.unwrap_or(f64::NAN), Unit::Farad),
             );
             found.push(flag("cap-drift", severity, role, message, source));
         }
@@ -307,7 +312,7 @@ fn switch(parts: &Parts, op: &OperatingPoint, report: &ModelReport, found: &mut 
             Severity::Note,
             role,
             message,
-            "MOSFET power-loss application notes, from memory (REFERENCE.md §9)",
+            "A typical figure from MOSFET makers' power-loss application notes, not this part's",
         ));
     }
 }
@@ -423,7 +428,8 @@ fn model_notes(report: &ModelReport, found: &mut Vec<Flag>) {
             Severity::Note,
             Role::WorkCoil,
             message,
-            "Proximity effect in coils, from memory (REFERENCE.md §4)",
+            "A typical figure for close-wound coils; the isolated-conductor resistance follows \
+             Terman, Radio Engineers' Handbook, 1943",
         ));
     }
     if let Some((workpiece_w, input_w)) = report.workpiece_power_w.zip(report.input_power_w)
@@ -438,7 +444,7 @@ fn model_notes(report: &ModelReport, found: &mut Vec<Flag>) {
             severity: Severity::Note,
             part: None,
             message,
-            source: "energy balance",
+            source: "Energy balance: the losses cannot exceed the power put in",
         });
     }
 }

@@ -458,7 +458,8 @@ fn degrading(part: Role, message: String) -> Flag {
         severity: Severity::Warning,
         part: Some(part),
         message,
-        source: "practice: a part losing margin or drifting run after run on the same revision is degrading",
+        source: "Common practice: a part losing margin or drifting run after run on the same revision \
+                 is wearing out",
     }
 }
 

@@ -34,7 +34,8 @@ pub struct BuildHealth {
     pub revision: String,
     pub run_count: usize,
     pub parts: Vec<PartHealth>,
-    pub build_flags: Vec<(String, &'static str, String)>,
+    /// (rule for selectors, title, severity, message)
+    pub build_flags: Vec<(String, &'static str, &'static str, String)>,
 }
 
 fn severity_word(s: Severity) -> &'static str {
@@ -159,6 +160,7 @@ pub fn build_health(revision: &str, digests: &[&RunDigest]) -> BuildHealth {
         .map(|f| {
             (
                 f.code.to_string(),
+                crate::analysis::flags::flag_title(f.code),
                 severity_word(f.severity),
                 f.message.clone(),
             )

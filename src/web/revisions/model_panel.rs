@@ -45,7 +45,10 @@ pub struct ModelPanel {
 
 /// A flag as a page shows it.
 pub struct FlagView {
+    /// The rule, for tests' selectors only (`data-code`); never shown.
     pub code: &'static str,
+    /// What a practitioner would call the finding.
+    pub title: &'static str,
     pub severity: &'static str,
     pub part: String,
     pub message: String,
@@ -56,6 +59,7 @@ impl FlagView {
     pub fn from_flag(flag: &Flag) -> FlagView {
         FlagView {
             code: flag.code,
+            title: crate::analysis::flags::flag_title(flag.code),
             severity: match flag.severity {
                 crate::analysis::flags::Severity::Note => "note",
                 crate::analysis::flags::Severity::Warning => "warning",

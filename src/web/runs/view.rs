@@ -14,7 +14,7 @@ use crate::charts::{
     render_line_chart,
 };
 use crate::parts::Parts;
-use crate::units::{Unit, eng};
+use crate::units::{Unit, eng, eng_precise};
 
 use crate::web::revisions::model_panel::FlagView;
 use crate::web::view::{maybe, minutes_seconds};
@@ -330,7 +330,10 @@ impl AnalysisView {
             ));
             operating.push((
                 "Frequency (median)".into(),
-                maybe(op.frequency_hz, Unit::Hertz),
+                op.frequency_hz.map_or_else(
+                    || "—".to_string(),
+                    |f| eng_precise(f, Unit::Hertz).to_string(),
+                ),
             ));
             if let Some(ambient) = op.ambient_c {
                 operating.push(("Ambient".into(), format!("{ambient:.1} °C")));
