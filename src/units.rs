@@ -12,9 +12,9 @@ use std::fmt;
 pub enum UnitError {
     #[error("enter a value")]
     Empty,
-    #[error("`{0}` is not a number")]
+    #[error("“{0}” is not a number")]
     NotANumber(String),
-    #[error("`{got}` is not a unit of this field (expected {expected})")]
+    #[error("“{got}” is not a unit of this field (expected {expected})")]
     WrongUnit { got: String, expected: &'static str },
 }
 
@@ -110,13 +110,13 @@ pub fn parse_value(input: &str, unit: Unit) -> Result<f64, UnitError> {
     let number: f64 = number_text
         .replace(',', ".")
         .parse()
-        .map_err(|_| UnitError::NotANumber(text.to_string()))?;
+        .map_err(|_| UnitError::NotANumber(quoted(text, 20)))?;
     if !number.is_finite() {
-        return Err(UnitError::NotANumber(text.to_string()));
+        return Err(UnitError::NotANumber(quoted(text, 20)));
     }
     let suffix = rest.trim();
     let scale = suffix_scale(suffix, unit).ok_or_else(|| UnitError::WrongUnit {
-        got: suffix.to_string(),
+        got: quoted(suffix, 20),
         expected: expected_text(unit),
     })?;
     Ok(number * scale)
@@ -253,6 +253,33 @@ fn eng_at(value: f64, exponent: i32, symbol: &str, figures: u8) -> String {
     )
 }
 
+/// A number as short as a person would write it back: four significant figures, and powers
+/// of ten beyond a million or below a thousandth (`1e300`, `2.5e-9`), never hundreds of digits.
+pub fn short_number(value: f64) -> String {
+    let magnitude = value.abs();
+    if !value.is_finite() || value == 0.0 || (1e-3..1e6).contains(&magnitude) {
+        return significant(value, 4);
+    }
+    let text = format!("{value:.3e}");
+    match text.split_once('e') {
+        Some((mantissa, exponent)) if mantissa.contains('.') => format!(
+            "{}e{exponent}",
+            mantissa.trim_end_matches('0').trim_end_matches('.')
+        ),
+        _ => text,
+    }
+}
+
+/// At most `max` characters of what someone typed, to quote it back in an error.
+pub fn quoted(text: &str, max: usize) -> String {
+    let text = text.trim();
+    if text.chars().count() <= max {
+        text.to_string()
+    } else {
+        format!("{}…", text.chars().take(max).collect::<String>())
+    }
+}
+
 /// A signed number with `decimals` places and a true minus sign (U+2212), as a page prints a
 /// change: +1.3, −0.2, 0.0.
 pub fn signed(value: f64, decimals: usize) -> String {
@@ -357,6 +384,11 @@ mod tests {
         assert_eq!(eng(8e-3, Unit::Ohm).to_string(), "8 mΩ");
         assert_eq!(eng(16.0, Unit::Ampere).to_string(), "16 A");
         assert_eq!(eng(159_154.9, Unit::Hertz).to_string(), "159 kHz");
+        assert_eq!(short_number(1e300), "1e300");
+        assert_eq!(short_number(-2.5e-9), "-2.5e-9");
+        assert_eq!(short_number(10_000.0), "10000");
+        assert_eq!(short_number(0.0125), "0.0125");
+        assert_eq!(quoted(&"9".repeat(300), 12), format!("{}…", "9".repeat(12)));
         assert_eq!(signed(-1.34, 1), "−1.3");
         assert_eq!(signed(0.04, 1), "0.0");
         assert_eq!(signed(2.0, 2), "+2.00");
@@ -378,7 +410,7 @@ pub fn parse_elapsed_s(input: &str) -> Result<f64, UnitError> {
     if text.is_empty() {
         return Err(UnitError::Empty);
     }
-    let not_time = || UnitError::NotANumber(text.to_string());
+    let not_time = || UnitError::NotANumber(quoted(text, 20));
     let seconds = if text.contains(':') {
         let fields: Vec<&str> = text.split(':').collect();
         if fields.len() > 3 || fields.iter().any(|f| f.trim().is_empty()) {

@@ -408,7 +408,11 @@ async fn create_run(
         {
             return Err(AppError::invalid(
                 field,
-                format!("must be above 0 and at most {max}, got {v}"),
+                format!(
+                    "must be above 0 and at most {}, not {}",
+                    crate::units::short_number(max),
+                    crate::units::short_number(v)
+                ),
             ));
         }
     }

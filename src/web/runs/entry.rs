@@ -54,14 +54,8 @@ pub(super) async fn add_reading(
         Ok(v) => v,
         Err(e) => return Ok(back_with_error(&slug, id, &form.channel, &e.to_string())),
     };
-    let (low, high) = channel.plausible_range();
-    if !(low..=high).contains(&value) {
-        return Ok(back_with_error(
-            &slug,
-            id,
-            &form.channel,
-            &format!("{} is outside {low}..{high}", form.value.trim()),
-        ));
+    if let Some(message) = channel.range_error(value) {
+        return Ok(back_with_error(&slug, id, &form.channel, &message));
     }
     let t_s = if form.time.trim().is_empty() {
         (now_unix_s() - run.started_at).max(0) as f64
@@ -73,7 +67,7 @@ pub(super) async fn add_reading(
                     &slug,
                     id,
                     &form.channel,
-                    "time: use 2:30 or 150 s",
+                    "Time since the start: write it as 2:30 or 150 s",
                 ));
             }
         }

@@ -180,7 +180,10 @@ fn check_t_s(t_s: f64) -> Result<(), Refusal> {
     if t_s < 0.0 {
         return Err(refusal(
             "t_s",
-            format!("must be 0 or more (seconds since the run started), got {t_s}"),
+            format!(
+                "must be 0 or more (seconds since the run started), not {}",
+                crate::units::short_number(t_s)
+            ),
         ));
     }
     Ok(())
@@ -190,13 +193,8 @@ fn reading(t_s: f64, channel: Channel, value: f64) -> Result<NewReading, Refusal
     if !value.is_finite() {
         return Err(refusal("value", "must be a finite number"));
     }
-    let (low, high) = channel.plausible_range();
-    if !(low..=high).contains(&value) {
-        let unit = channel.quantity().unit();
-        return Err(refusal(
-            "value",
-            format!("{value} {unit} is outside the plausible range {low} to {high} {unit}"),
-        ));
+    if let Some(message) = channel.range_error(value) {
+        return Err(refusal("value", message));
     }
     Ok(NewReading {
         t_s,
