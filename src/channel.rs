@@ -105,7 +105,7 @@ impl Channel {
             if v.is_finite() && v.abs() < 1e12 {
                 crate::units::eng(v, unit).to_string()
             } else {
-                format!("{} {}", crate::units::short_number(v), unit.symbol())
+                format!("{}\u{a0}{}", crate::units::short_number(v), unit.symbol())
             }
         };
         Some(format!(
@@ -189,12 +189,12 @@ mod tests {
         let huge = Channel::SupplyVoltage.range_error(1e300).unwrap();
         assert_eq!(
             huge,
-            "1e300 V is outside what a supply voltage reading can be (0 V to 10 kV)"
+            "1e300\u{a0}V is outside what a supply voltage reading can be (0\u{a0}V to 10\u{a0}kV)"
         );
         assert!(Channel::Frequency.range_error(152e3).is_none());
         assert_eq!(
             Channel::Frequency.range_error(-5.0).unwrap(),
-            "-5 Hz is outside what a frequency reading can be (0 Hz to 100 MHz)"
+            "-5\u{a0}Hz is outside what a frequency reading can be (0\u{a0}Hz to 100\u{a0}MHz)"
         );
     }
 

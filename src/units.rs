@@ -195,6 +195,12 @@ pub fn eng(value: f64, unit: Unit) -> Engineering {
     }
 }
 
+/// A value as a person types it back into a field or a terminal: the page's no-break space
+/// becomes a plain one.
+pub fn eng_typed(value: f64, unit: Unit) -> String {
+    eng(value, unit).to_string().replace('\u{a0}', " ")
+}
+
 /// Four significant figures: 125.5 kHz and 125.9 kHz stay apart, as the capacitance inferred
 /// from them must.
 pub fn eng_precise(value: f64, unit: Unit) -> Engineering {
@@ -209,7 +215,8 @@ impl fmt::Display for Engineering {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         let value = self.value;
         let symbol = self.unit.symbol();
-        let space = if symbol.is_empty() { "" } else { " " };
+        // A no-break space: on a narrow screen a number never wraps away from its unit.
+        let space = if symbol.is_empty() { "" } else { "\u{a0}" };
         if !value.is_finite() {
             return write!(f, "{value}{space}{symbol}");
         }
@@ -233,7 +240,7 @@ impl fmt::Display for Engineering {
         if significant(scaled, self.figures) == "1000" && exponent < 9 {
             return write!(f, "{}", eng_at(value, exponent + 3, symbol, self.figures));
         }
-        write!(f, "{} {prefix}{symbol}", significant(scaled, self.figures))
+        write!(f, "{}\u{a0}{prefix}{symbol}", significant(scaled, self.figures))
     }
 }
 
@@ -248,7 +255,7 @@ fn eng_at(value: f64, exponent: i32, symbol: &str, figures: u8) -> String {
         _ => "G",
     };
     format!(
-        "{} {prefix}{symbol}",
+        "{}\u{a0}{prefix}{symbol}",
         significant(value / 10f64.powi(exponent), figures)
     )
 }
@@ -379,11 +386,11 @@ mod tests {
 
     #[test]
     fn formats_engineering_notation() {
-        assert_eq!(eng(470e-9, Unit::Farad).to_string(), "470 nF");
-        assert_eq!(eng(1.2e-6, Unit::Henry).to_string(), "1.2 µH");
-        assert_eq!(eng(8e-3, Unit::Ohm).to_string(), "8 mΩ");
-        assert_eq!(eng(16.0, Unit::Ampere).to_string(), "16 A");
-        assert_eq!(eng(159_154.9, Unit::Hertz).to_string(), "159 kHz");
+        assert_eq!(eng(470e-9, Unit::Farad).to_string(), "470\u{a0}nF");
+        assert_eq!(eng(1.2e-6, Unit::Henry).to_string(), "1.2\u{a0}µH");
+        assert_eq!(eng(8e-3, Unit::Ohm).to_string(), "8\u{a0}mΩ");
+        assert_eq!(eng(16.0, Unit::Ampere).to_string(), "16\u{a0}A");
+        assert_eq!(eng(159_154.9, Unit::Hertz).to_string(), "159\u{a0}kHz");
         assert_eq!(short_number(1e300), "1e300");
         assert_eq!(short_number(-2.5e-9), "-2.5e-9");
         assert_eq!(short_number(10_000.0), "10000");
@@ -393,14 +400,14 @@ mod tests {
         assert_eq!(signed(0.04, 1), "0.0");
         assert_eq!(signed(2.0, 2), "+2.00");
         // Four figures keep a drift of a tenth of a percent visible.
-        assert_eq!(eng_precise(125_549.0, Unit::Hertz).to_string(), "125.5 kHz");
-        assert_eq!(eng_precise(125_949.0, Unit::Hertz).to_string(), "125.9 kHz");
-        assert_eq!(eng_precise(330.5e-9, Unit::Farad).to_string(), "330.5 nF");
-        assert_eq!(eng_precise(999.97e3, Unit::Hertz).to_string(), "1 MHz");
-        assert_eq!(eng(0.9997e-6, Unit::Farad).to_string(), "1 µF");
-        assert_eq!(eng(85.0, Unit::Celsius).to_string(), "85 °C");
-        assert_eq!(eng(0.0, Unit::Volt).to_string(), "0 V");
-        assert_eq!(eng(-2.5e-3, Unit::Ampere).to_string(), "-2.5 mA");
+        assert_eq!(eng_precise(125_549.0, Unit::Hertz).to_string(), "125.5\u{a0}kHz");
+        assert_eq!(eng_precise(125_949.0, Unit::Hertz).to_string(), "125.9\u{a0}kHz");
+        assert_eq!(eng_precise(330.5e-9, Unit::Farad).to_string(), "330.5\u{a0}nF");
+        assert_eq!(eng_precise(999.97e3, Unit::Hertz).to_string(), "1\u{a0}MHz");
+        assert_eq!(eng(0.9997e-6, Unit::Farad).to_string(), "1\u{a0}µF");
+        assert_eq!(eng(85.0, Unit::Celsius).to_string(), "85\u{a0}°C");
+        assert_eq!(eng(0.0, Unit::Volt).to_string(), "0\u{a0}V");
+        assert_eq!(eng(-2.5e-3, Unit::Ampere).to_string(), "-2.5\u{a0}mA");
     }
 }
 

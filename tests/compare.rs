@@ -63,7 +63,7 @@ fn the_diff_shows_changed_fields_old_to_new_in_engineering_notation() {
     assert_eq!(count.values(), "4 → 6");
     let chokes = row(&rows, "Choke · Inductance");
     assert_eq!(chokes.change, Change::Changed);
-    assert_eq!(chokes.values(), "47 µH → 100 µH");
+    assert_eq!(chokes.values(), "47\u{a0}µH → 100\u{a0}µH");
     assert_eq!(chokes.class(), "changed");
     assert_eq!(
         row(&rows, "Tank capacitor · Capacitance of one unit").change,
@@ -78,16 +78,16 @@ fn the_diff_shows_parts_added_and_removed() {
     let clamp = row(&rows, "Gate clamp");
     assert_eq!(clamp.change, Change::Added);
     assert_eq!(clamp.role, Role::GateClamp);
-    assert_eq!(clamp.values(), "Label 12 V zener; Zener voltage 12 V");
+    assert_eq!(clamp.values(), "Label 12 V zener; Zener voltage 12\u{a0}V");
     let switch = row(&rows, "Switch");
     assert_eq!(switch.change, Change::Removed);
-    assert_eq!(switch.values(), "V_DS maximum 100 V");
+    assert_eq!(switch.values(), "V_DS maximum 100\u{a0}V");
     assert_eq!(row(&rows, "Other: heat sink").change, Change::Added);
     // Read the other way, what was added is removed.
     let back = diff_parts(&after(), &before());
     assert_eq!(row(&back, "Gate clamp").change, Change::Removed);
     assert_eq!(row(&back, "Switch").change, Change::Added);
-    assert_eq!(row(&back, "Choke · Inductance").values(), "100 µH → 47 µH");
+    assert_eq!(row(&back, "Choke · Inductance").values(), "100\u{a0}µH → 47\u{a0}µH");
 }
 
 #[test]
@@ -105,9 +105,9 @@ fn a_field_given_only_later_is_added_within_its_part() {
         ]
     );
     assert_eq!(step.changes[0].change, Change::Added);
-    assert_eq!(step.changes[0].values(), "— → 12 A");
+    assert_eq!(step.changes[0].values(), "— → 12\u{a0}A");
     assert_eq!(step.changes[1].change, Change::Removed);
-    assert_eq!(step.changes[1].values(), "100 V → —");
+    assert_eq!(step.changes[1].values(), "100\u{a0}V → —");
 }
 
 #[test]

@@ -216,7 +216,7 @@ fn cap_drift() {
     );
     let message = message_of(&parts, &measured(0.88), "cap-drift");
     assert!(
-        message.contains("12.0\u{a0}% below the nominal 1 µF"),
+        message.contains("12.0\u{a0}% below the nominal 1\u{a0}µF"),
         "{message}"
     );
 }

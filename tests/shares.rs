@@ -380,7 +380,7 @@ async fn the_build_page_makes_a_link_and_shows_it_only_once() {
     assert!(listed.json()[0].get("url").is_none());
     // The link is recorded (by whom and for whom), not its secret.
     let history = build_page.select_texts("#history li").join("\n");
-    assert!(history.contains("share created"), "{history}");
+    assert!(history.contains("made a read-only share link"), "{history}");
     assert!(!history.contains(&token));
 }
 
