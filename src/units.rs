@@ -240,7 +240,11 @@ impl fmt::Display for Engineering {
         if significant(scaled, self.figures) == "1000" && exponent < 9 {
             return write!(f, "{}", eng_at(value, exponent + 3, symbol, self.figures));
         }
-        write!(f, "{}\u{a0}{prefix}{symbol}", significant(scaled, self.figures))
+        write!(
+            f,
+            "{}\u{a0}{prefix}{symbol}",
+            significant(scaled, self.figures)
+        )
     }
 }
 
@@ -400,9 +404,18 @@ mod tests {
         assert_eq!(signed(0.04, 1), "0.0");
         assert_eq!(signed(2.0, 2), "+2.00");
         // Four figures keep a drift of a tenth of a percent visible.
-        assert_eq!(eng_precise(125_549.0, Unit::Hertz).to_string(), "125.5\u{a0}kHz");
-        assert_eq!(eng_precise(125_949.0, Unit::Hertz).to_string(), "125.9\u{a0}kHz");
-        assert_eq!(eng_precise(330.5e-9, Unit::Farad).to_string(), "330.5\u{a0}nF");
+        assert_eq!(
+            eng_precise(125_549.0, Unit::Hertz).to_string(),
+            "125.5\u{a0}kHz"
+        );
+        assert_eq!(
+            eng_precise(125_949.0, Unit::Hertz).to_string(),
+            "125.9\u{a0}kHz"
+        );
+        assert_eq!(
+            eng_precise(330.5e-9, Unit::Farad).to_string(),
+            "330.5\u{a0}nF"
+        );
         assert_eq!(eng_precise(999.97e3, Unit::Hertz).to_string(), "1\u{a0}MHz");
         assert_eq!(eng(0.9997e-6, Unit::Farad).to_string(), "1\u{a0}µF");
         assert_eq!(eng(85.0, Unit::Celsius).to_string(), "85\u{a0}°C");

@@ -87,7 +87,10 @@ fn the_diff_shows_parts_added_and_removed() {
     let back = diff_parts(&after(), &before());
     assert_eq!(row(&back, "Gate clamp").change, Change::Removed);
     assert_eq!(row(&back, "Switch").change, Change::Added);
-    assert_eq!(row(&back, "Choke · Inductance").values(), "100\u{a0}µH → 47\u{a0}µH");
+    assert_eq!(
+        row(&back, "Choke · Inductance").values(),
+        "100\u{a0}µH → 47\u{a0}µH"
+    );
 }
 
 #[test]
