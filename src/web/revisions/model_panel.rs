@@ -73,6 +73,17 @@ impl FlagView {
 }
 
 impl ModelPanel {
+    /// What was typed into the what-if, as "Supply voltage 30 V", so the answer is read beside
+    /// the question; empty when the panel shows the revision's own operating point.
+    pub fn typed(&self) -> String {
+        self.fields()
+            .into_iter()
+            .filter(|(_, _, value, _)| !value.trim().is_empty())
+            .map(|(_, title, value, _)| format!("{title} {}", crate::units::quoted(&value, 20)))
+            .collect::<Vec<_>>()
+            .join(" · ")
+    }
+
     /// The what-if fields: name, title, typed value, placeholder.
     pub fn fields(&self) -> Vec<(&'static str, &'static str, String, &'static str)> {
         let q = &self.query;
