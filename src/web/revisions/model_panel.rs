@@ -34,6 +34,8 @@ pub struct WhatIfQuery {
 
 pub struct ModelPanel {
     pub query: WhatIfQuery,
+    /// Whether the visitor typed a what-if (as opposed to the nominal operating point).
+    pub asked: bool,
     pub errors: FieldErrors,
     /// Where the operating point came from, in words.
     pub basis: String,
@@ -76,6 +78,9 @@ impl ModelPanel {
     /// What was typed into the what-if, as "Supply voltage 30 V", so the answer is read beside
     /// the question; empty when the panel shows the revision's own operating point.
     pub fn typed(&self) -> String {
+        if !self.asked {
+            return String::new();
+        }
         self.fields()
             .into_iter()
             .filter(|(_, _, value, _)| !value.trim().is_empty())
@@ -122,6 +127,7 @@ impl ModelPanel {
     /// Evaluates the panel. With no supply typed, the revision's nominal supply is used.
     pub fn build(parts: &Parts, mut query: WhatIfQuery) -> ModelPanel {
         let mut errors = FieldErrors::default();
+        let asked = query_typed(&query);
         let typed = !query.supply_voltage_v.trim().is_empty();
         let nominal = parts.supply.as_ref().and_then(|s| s.nominal_voltage_v);
         if !typed && let Some(v) = nominal {
@@ -164,6 +170,7 @@ impl ModelPanel {
             },
         };
         let mut panel = ModelPanel {
+            asked,
             basis: if typed {
                 "at the operating point typed below".into()
             } else if nominal.is_some() {
@@ -205,4 +212,20 @@ impl ModelPanel {
         panel.runaway = report.switch_thermal_runaway;
         panel
     }
+}
+
+/// Whether any what-if field was typed.
+fn query_typed(q: &WhatIfQuery) -> bool {
+    [
+        &q.supply_voltage_v,
+        &q.supply_current_a,
+        &q.frequency_hz,
+        &q.ambient_c,
+        &q.t_tank_capacitor,
+        &q.t_switch,
+        &q.t_work_coil,
+        &q.t_choke,
+    ]
+    .iter()
+    .any(|v| !v.trim().is_empty())
 }
