@@ -6,6 +6,8 @@ pub mod analysis;
 pub mod channel;
 /// Server-side SVG charts.
 pub mod charts;
+/// Pure checks of every write, shared by pages, API, imports and the command line.
+pub mod checks;
 /// Start-up configuration.
 pub mod config;
 /// The demo scenario.
@@ -16,6 +18,8 @@ pub mod export;
 pub mod parts;
 /// Pure driver physics: each formula once, with its source.
 pub mod physics;
+/// Notices of changes to open runs, for their live pages.
+pub mod run_feed;
 /// Passwords, session ids and tokens.
 pub mod secrets;
 /// The SQLite store, the only module that speaks SQL.

@@ -49,6 +49,7 @@ fn series(channels: &[(&str, f64, f64)]) -> Vec<NewReading> {
                 t_s,
                 channel: channel.to_string(),
                 value: start + rise_per_step * f64::from(step),
+                client_id: None,
             });
         }
     }
@@ -91,6 +92,18 @@ async fn logged_run(
         .unwrap();
     store
         .add_readings(run, &plan.readings, Some(user))
+        .await
+        .unwrap();
+    store
+        .add_event_mark(
+            run,
+            &eddybench::store::NewEventMark {
+                t_s: 30.0,
+                text: "=fan on".into(),
+                client_id: None,
+            },
+            Some(user),
+        )
         .await
         .unwrap();
     if let Some((outcome, failed_part, note)) = plan.finish {
@@ -253,6 +266,7 @@ async fn seed_bench_rig(store: &Store) -> String {
                 t_s: 0.0,
                 channel: "ambient_temp".into(),
                 value: -5.0,
+                client_id: None,
             }],
             finish: None,
         },
@@ -537,6 +551,7 @@ async fn csv_tables_escape_formulas_and_keep_numbers_numeric() {
                 t_s: 12.5,
                 channel: "ambient_temp".into(),
                 value: -5.0,
+                client_id: None,
             }],
             None,
         )

@@ -14,6 +14,7 @@ use serde::{Deserialize, Serialize};
 use crate::analysis::{OperatingPoint, validate};
 use crate::channel::Channel;
 use crate::parts::Parts;
+use crate::run_feed::RunChange;
 use crate::store::{
     Build, NewBuild, NewRun, Outcome, Revision, Run, RunFinish, RunId, revision_number,
 };
@@ -551,6 +552,7 @@ async fn finish_run(
         )
         .await?;
     crate::web::runs::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
+    state.run_feeds.notify(run.id, RunChange::Finished);
     let run = state.store.run_by_id(run.id).await?;
     Ok(Json(run_json(&state, &build, run).await?))
 }
@@ -598,7 +600,10 @@ async fn open_run(state: &AppState, run: &Run) -> Result<Revision> {
     Ok(state.store.revision_by_id(run.revision_id).await?)
 }
 
-/// `application/json`: an array of `{"t_s", "channel", "value"}`, read whole (up to 32 MiB).
+/// `application/json`: an array of `{"t_s", "channel", "value"}`, each with an optional `"id"`
+/// its sender made, read whole (up to 32 MiB). A row whose id is stored already with the same
+/// time and value is a resend and is counted as `already_stored`, not stored again; the same id
+/// with another value refuses the set (409).
 /// `text/csv`: a header `t_s,channel,value` and one reading a line, streamed (up to 256 MiB).
 /// Either way all rows are saved or none.
 #[tracing::instrument(skip_all, fields(run = id))]
@@ -635,11 +640,15 @@ async fn add_readings(
             ));
         }
     }
+    let already_stored = import.already_stored();
     let inserted = import.commit().await?;
-    tracing::info!(inserted, "readings imported");
+    if inserted > 0 {
+        state.run_feeds.notify(run.id, RunChange::Readings);
+    }
+    tracing::info!(inserted, already_stored, "readings imported");
     Ok((
         StatusCode::CREATED,
-        Json(serde_json::json!({ "inserted": inserted })),
+        Json(serde_json::json!({ "inserted": inserted, "already_stored": already_stored })),
     )
         .into_response())
 }
@@ -694,6 +703,7 @@ async fn upload_csv(
         }
     }
     let inserted = import.commit().await?;
+    state.run_feeds.notify(run.id, RunChange::Readings);
     tracing::info!(inserted, "readings imported from the run page");
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#readings")).into_response())
 }
