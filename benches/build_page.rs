@@ -4,7 +4,6 @@
 //!
 //! Run with `cargo bench --bench build_page`.
 
-use std::sync::Arc;
 use std::time::Instant;
 
 use axum::body::Body;
@@ -182,11 +181,7 @@ async fn main() {
             .await
             .unwrap();
         let cookie = format!("eb_session={session}");
-        let router = app(AppState {
-            store,
-            config: Arc::new(Config::new(dir.path().to_path_buf())),
-            run_feeds: Default::default(),
-        });
+        let router = app(AppState::new(store, Config::new(dir.path().to_path_buf())));
         let first = view(&router, &cookie).await;
         let mut warm = Vec::new();
         for _ in 0..9 {

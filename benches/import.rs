@@ -110,11 +110,10 @@ async fn main() {
         })
         .await
         .unwrap();
-    let router = app(AppState {
-        store: store.clone(),
-        config: Arc::new(Config::new(dir.path().to_path_buf())),
-        run_feeds: Default::default(),
-    });
+    let router = app(AppState::new(
+        store.clone(),
+        Config::new(dir.path().to_path_buf()),
+    ));
 
     let sent = Arc::new(std::sync::atomic::AtomicU64::new(0));
     let counter = sent.clone();

@@ -18,6 +18,9 @@ pub struct Config {
     /// Session lifetime without activity, and in all.
     pub session_idle_s: i64,
     pub session_absolute_s: i64,
+    /// A request body that sends nothing for this long is cut off (a stalled upload frees its
+    /// connection and its staged rows).
+    pub body_stall_timeout: std::time::Duration,
 }
 
 impl Config {
@@ -29,6 +32,7 @@ impl Config {
             trust_forwarded: false,
             session_idle_s: 12 * 3600,
             session_absolute_s: 14 * 24 * 3600,
+            body_stall_timeout: std::time::Duration::from_secs(15),
         }
     }
 }

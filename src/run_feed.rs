@@ -2,7 +2,12 @@
 //! has watchers (the run page's live stream; later a team server's other instances). Writers
 //! call [`RunFeeds::notify`] after their change is durable; watchers re-read what they need from
 //! the store, so a missed or merged notice loses nothing.
+//!
+//! Beside the channels, a memo per run: what a page derived from the run's readings (its
+//! analysis, charts and fits), kept until the next notice for that run, so that views between
+//! readings cost no more than a page of the table.
 
+use std::any::Any;
 use std::collections::HashMap;
 use std::sync::{Arc, Mutex};
 
@@ -24,10 +29,22 @@ pub enum RunChange {
 /// Notices a slow watcher may fall behind by before it is told it lagged (and re-reads).
 const BACKLOG: usize = 64;
 
-/// The per-run channels, shared by every handler through `AppState`.
-#[derive(Clone, Default, Debug)]
+/// Runs whose memo is kept at once; past this the memos start again (open runs are few).
+const MEMO_RUNS: usize = 32;
+
+type Memo = Arc<dyn Any + Send + Sync>;
+
+/// The per-run channels and memos, shared by every handler through `AppState`.
+#[derive(Clone, Default)]
 pub struct RunFeeds {
     runs: Arc<Mutex<HashMap<RunId, broadcast::Sender<RunChange>>>>,
+    memos: Arc<Mutex<HashMap<RunId, Memo>>>,
+}
+
+impl std::fmt::Debug for RunFeeds {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str("RunFeeds")
+    }
 }
 
 impl RunFeeds {
@@ -42,12 +59,31 @@ impl RunFeeds {
     /// Tells a run's watchers about a change; a run nobody watches costs a map lookup. The
     /// channel of a run whose watchers have all gone is dropped here.
     pub fn notify(&self, run: RunId, change: RunChange) {
+        self.memos
+            .lock()
+            .unwrap_or_else(|e| e.into_inner())
+            .remove(&run);
         let mut runs = self.runs.lock().unwrap_or_else(|e| e.into_inner());
         if let Some(sender) = runs.get(&run)
             && sender.send(change).is_err()
         {
             runs.remove(&run);
         }
+    }
+
+    /// What was kept for a run since its last change, if it is of type `T`.
+    pub fn memo<T: Any + Send + Sync>(&self, run: RunId) -> Option<Arc<T>> {
+        let memos = self.memos.lock().unwrap_or_else(|e| e.into_inner());
+        memos.get(&run).cloned()?.downcast::<T>().ok()
+    }
+
+    /// Keeps what was derived from a run until its next change.
+    pub fn keep_memo<T: Any + Send + Sync>(&self, run: RunId, memo: Arc<T>) {
+        let mut memos = self.memos.lock().unwrap_or_else(|e| e.into_inner());
+        if memos.len() >= MEMO_RUNS && !memos.contains_key(&run) {
+            memos.clear();
+        }
+        memos.insert(run, memo);
     }
 
     /// Runs with a channel (for tests of the clean-up).

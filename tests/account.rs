@@ -3,8 +3,6 @@
 
 mod common;
 
-use std::sync::Arc;
-
 use axum::body::Body;
 use axum::http::{Request, StatusCode};
 use common::{PASSWORD, TestApp, form_body};
@@ -176,11 +174,7 @@ async fn forwarded_headers_count_only_when_configured() {
     let store: Store = app.store.clone();
     let mut config = Config::new(app.data_dir().to_path_buf());
     config.trust_forwarded = true;
-    let proxied = eddybench::app(AppState {
-        store,
-        config: Arc::new(config),
-        run_feeds: Default::default(),
-    });
+    let proxied = eddybench::app(AppState::new(store, config));
     let trusted = post_build(
         &proxied,
         &session.cookie,

@@ -5,8 +5,6 @@
 mod access;
 mod common;
 
-use std::sync::Arc;
-
 use access::{PRINCIPALS, Principal, World, fill, payload, request};
 use axum::Router;
 use axum::body::Body;
@@ -185,6 +183,17 @@ async fn every_response_of_every_route_carries_the_security_headers() {
             false,
             &mut problems,
         );
+        // A signed-in person's or a script's answers (pictures included) and every API
+        // answer must not be kept by a browser or proxy once they sign out.
+        let personal = !matches!(principal, Principal::Anonymous | Principal::Share(_))
+            || address.starts_with("/api/");
+        let cache_control = header_values(&page, "cache-control");
+        if personal && !cache_control.iter().any(|v| v.contains("no-store")) {
+            problems.push(format!(
+                "{} {address} as {name}: Cache-Control {cache_control:?} lets it be kept",
+                route.method
+            ));
+        }
     }
     assert!(html_pages > 30, "the walk saw {html_pages} pages");
     assert_no_problems(&problems);
@@ -318,11 +327,7 @@ impl Https {
         let store = Store::open(dir.path()).await.unwrap();
         let mut config = Config::new(dir.path().to_path_buf());
         config.secure_cookies = true;
-        let router = app(AppState {
-            store: store.clone(),
-            config: Arc::new(config),
-            run_feeds: Default::default(),
-        });
+        let router = app(AppState::new(store.clone(), config));
         Https {
             router,
             store,
@@ -463,7 +468,7 @@ async fn fail_until_waiting(app: &TestApp, name: &str, at_least_s: i64) -> (Stri
         match wait {
             None => assert_eq!(message, NOT_MATCHING),
             Some(wait) if wait >= at_least_s => return (message, wait),
-            Some(wait) => app.store.backdate_login_failure(name, wait).await.unwrap(),
+            Some(wait) => app.store.backdate_login_failures(wait).await.unwrap(),
         }
     }
     panic!("forty failures on {name} and no wait of {at_least_s} s");
@@ -497,12 +502,70 @@ async fn repeated_failures_are_refused_at_once_with_the_same_message_for_every_n
     assert!(wait.is_some(), "{right}");
     assert_eq!(app.store.login_failures("ada").await.unwrap(), counted);
     assert_eq!(app.count_rows("sessions").await, 0);
-    // Another account is not slowed down.
-    assert!(
-        app.signed_in("bob", UserRole::Viewer)
+    // Another account from a source that has not been failing is not slowed down.
+    app.add_user("bob", UserRole::Viewer).await;
+    let clean = Some("198.51.100.7:50000".parse().unwrap());
+    let page = app.login_attempt_from("bob", PASSWORD, "/", clean).await;
+    assert!(cookie_value(&page, "eb_session").is_some(), "{}", page.body);
+}
+
+#[tokio::test]
+async fn a_guesser_elsewhere_never_locks_the_owner_out() {
+    let app = TestApp::new().await;
+    app.add_user("ada", UserRole::Admin).await;
+    let attacker = Some("203.0.113.9:40000".parse().unwrap());
+    // The attacker guesses until the account's and its own waits are long.
+    let mut waited = None;
+    for _ in 0..12 {
+        let page = app.login_attempt_from("ada", "guess", "/", attacker).await;
+        if let (_, Some(wait)) = refusal(&page) {
+            waited = Some(wait);
+        }
+    }
+    assert!(waited.is_some(), "the guesser was never slowed down");
+    let (_, still) = refusal(&app.login_attempt_from("ada", "guess", "/", attacker).await);
+    assert!(still.is_some(), "the guesser waits");
+    // The owner, from a clean source, with the right password: in at once.
+    let owner = Some("198.51.100.7:50000".parse().unwrap());
+    let page = app.login_attempt_from("ada", PASSWORD, "/", owner).await;
+    assert!(cookie_value(&page, "eb_session").is_some(), "{}", page.body);
+    // A second failing source meets the account's wait after its own first failure.
+    let other = Some("203.0.113.10:40000".parse().unwrap());
+    for _ in 0..4 {
+        app.login_attempt_from("ada", "guess", "/", other).await;
+    }
+    let (_, wait) = refusal(&app.login_attempt_from("ada", "guess", "/", other).await);
+    assert!(wait.is_some(), "a second failing source is slowed too");
+}
+
+#[tokio::test]
+async fn huge_names_cost_a_short_row_each() {
+    let app = TestApp::new().await;
+    for i in 0..20 {
+        let source = Some(format!("192.0.2.{i}:1000").parse().unwrap());
+        let name = format!("{i}{}", "x".repeat(100_000));
+        app.login_attempt_from(&name, "guess", "/", source).await;
+    }
+    let file = app.data_dir().join(eddybench::store::DATABASE_FILE);
+    let pool = sqlx::SqlitePool::connect(&format!("sqlite://{}?mode=ro", file.display()))
+        .await
+        .unwrap();
+    let (rows, longest): (i64, i64) =
+        sqlx::query_as("SELECT COUNT(*), MAX(LENGTH(name)) FROM login_failures")
+            .fetch_one(&pool)
             .await
-            .cookie
-            .starts_with("eb_session=")
+            .unwrap();
+    assert_eq!(rows, 40, "one row per source and per (capped) name");
+    assert!(longest <= 80, "a stored key of {longest} characters");
+    // Failures older than a day are pruned by the next attempt.
+    app.store.backdate_login_failures(2 * 86_400).await.unwrap();
+    let source = Some("192.0.2.200:1000".parse().unwrap());
+    app.login_attempt_from("someone", "guess", "/", source)
+        .await;
+    assert_eq!(
+        app.count_rows("login_failures").await,
+        2,
+        "old failures pruned"
     );
 }
 
@@ -526,7 +589,7 @@ async fn the_slow_down_keeps_a_guesser_under_a_hundred_failures_an_hour() {
                 assert!(wait > 0, "{message}");
                 waits.push(wait);
                 elapsed_s += wait;
-                app.store.backdate_login_failure("ada", wait).await.unwrap();
+                app.store.backdate_login_failures(wait).await.unwrap();
             }
         }
         assert!(
@@ -547,7 +610,7 @@ async fn the_real_user_gets_back_in_once_the_wait_is_over() {
         app.login("ada", PASSWORD).await.is_none(),
         "not before the wait is over"
     );
-    app.store.backdate_login_failure("ada", wait).await.unwrap();
+    app.store.backdate_login_failures(wait).await.unwrap();
     let session = app.login("ada", PASSWORD).await.expect("in after the wait");
     assert_eq!(app.get("/", Some(&session)).await.status, StatusCode::OK);
     assert_eq!(
@@ -562,7 +625,7 @@ async fn guesses_sent_at_once_do_not_slip_past_the_wait() {
     let app = TestApp::new().await;
     app.add_user("ada", UserRole::Editor).await;
     let (_, wait) = fail_until_waiting(&app, "ada", 1).await;
-    app.store.backdate_login_failure("ada", wait).await.unwrap();
+    app.store.backdate_login_failures(wait).await.unwrap();
     let (before, _) = app.store.login_failures("ada").await.unwrap().unwrap();
     // Ten guesses at the same moment: one may be checked, the others must wait for it.
     let answers = futures_util::future::join_all(

@@ -152,3 +152,102 @@ async fn a_correction_keeps_the_old_value_in_the_history() {
         "a replaced value cannot be corrected again"
     );
 }
+
+/// An open run on a fresh build, for the writer's tests.
+async fn open_run(store: &Store) -> eddybench::store::RunId {
+    let build = rig(store).await;
+    let revision = store
+        .create_revision(build.id, None, &bank(4), "", None)
+        .await
+        .unwrap();
+    store
+        .create_run(&NewRun {
+            build_id: build.id,
+            revision_id: revision.id,
+            operator: "Ada",
+            created_by: None,
+            started_at: None,
+            supply_setting_v: Some(24.0),
+            supply_current_limit_a: None,
+            load: "none",
+            water_mass_kg: None,
+            vessel_heat_capacity_j_per_k: None,
+            notes: "",
+            channels: &[],
+        })
+        .await
+        .unwrap()
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn writes_sent_at_once_share_commits_and_each_is_kept() {
+    let (_dir, store) = fresh_store().await;
+    let run = open_run(&store).await;
+    let before = store.writer_metrics();
+    let writes = (0..64).map(|i| {
+        let store = store.clone();
+        tokio::spawn(async move {
+            let reading = NewReading {
+                t_s: f64::from(i),
+                channel: "ambient_temp".into(),
+                value: 20.0,
+                client_id: None,
+            };
+            store.add_readings(run, &[reading], None).await
+        })
+    });
+    for write in writes.collect::<Vec<_>>() {
+        write.await.unwrap().unwrap();
+    }
+    let after = store.writer_metrics();
+    assert_eq!(store.current_reading_count(run).await.unwrap(), 64);
+    assert_eq!(after.writes_kept - before.writes_kept, 64);
+    // Group commit: 64 writes queued together cost fewer commits (fsyncs) than writes.
+    let batches = after.batches - before.batches;
+    assert!(batches < 64, "{batches} commits for 64 writes");
+    assert!(after.largest_batch > 1);
+    assert_eq!(after.queue_depth, 0);
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn a_failed_write_is_rolled_back_alone() {
+    let (_dir, store) = fresh_store().await;
+    let run = open_run(&store).await;
+    let reading = |t_s: f64| NewReading {
+        t_s,
+        channel: "ambient_temp".into(),
+        value: 20.0,
+        client_id: None,
+    };
+    store
+        .add_readings(run, &[reading(0.0)], None)
+        .await
+        .unwrap();
+    let first = store.current_readings(run).await.unwrap()[0].id;
+    store.correct_reading(run, first, 21.0, None).await.unwrap();
+    let before = store.writer_metrics();
+    // Correcting the replaced value again fails after its reads, inside the writer; the writes
+    // beside it keep theirs.
+    let (one, two) = ([reading(1.0)], [reading(2.0)]);
+    let (again, kept_a, kept_b) = tokio::join!(
+        store.correct_reading(run, first, 22.0, None),
+        store.add_readings(run, &one, None),
+        store.add_readings(run, &two, None),
+    );
+    assert!(again.is_err());
+    kept_a.unwrap();
+    kept_b.unwrap();
+    let values: Vec<f64> = store
+        .current_readings(run)
+        .await
+        .unwrap()
+        .iter()
+        .map(|r| r.value)
+        .collect();
+    assert_eq!(values, [21.0, 20.0, 20.0]);
+    assert_eq!(
+        store.writer_metrics().writes_discarded - before.writes_discarded,
+        1
+    );
+    assert!(store.integrity_problems().await.unwrap().is_empty());
+}

@@ -86,16 +86,7 @@ pub fn live_margin(
             .map(|s| s.max(0.0)),
         _ => None,
     };
-    let severity = match margin_k {
-        Some(m) if m <= 0.0 => Severity::Failure,
-        Some(m)
-            if m < LIVE_WARNING_MARGIN_K
-                || seconds_to_limit.is_some_and(|s| s <= LIVE_WARNING_S) =>
-        {
-            Severity::Warning
-        }
-        _ => Severity::Note,
-    };
+    let severity = severity_of(margin_k, seconds_to_limit);
     Some(LiveMargin {
         channel: channel.to_string(),
         title: channel.title(),
@@ -105,6 +96,33 @@ pub fn live_margin(
         seconds_to_limit,
         severity,
     })
+}
+
+fn severity_of(margin_k: Option<f64>, seconds_to_limit: Option<f64>) -> Severity {
+    match margin_k {
+        Some(m) if m <= 0.0 => Severity::Failure,
+        Some(m)
+            if m < LIVE_WARNING_MARGIN_K
+                || seconds_to_limit.is_some_and(|s| s <= LIVE_WARNING_S) =>
+        {
+            Severity::Warning
+        }
+        _ => Severity::Note,
+    }
+}
+
+/// A margin computed at `from_s` as it stands at `now_s`, with no new reading in between: the
+/// predicted crossing is `now_s − from_s` closer and the severity is rated again. This lets a
+/// page keep the fits of an open run until a reading arrives instead of refitting every view.
+pub fn margin_at(margin: &LiveMargin, from_s: f64, now_s: f64) -> LiveMargin {
+    let seconds_to_limit = margin
+        .seconds_to_limit
+        .map(|s| (s - (now_s - from_s)).max(0.0));
+    LiveMargin {
+        seconds_to_limit,
+        severity: severity_of(margin.margin_k, seconds_to_limit),
+        ..margin.clone()
+    }
 }
 
 #[cfg(test)]
@@ -145,6 +163,22 @@ mod tests {
         assert!((m.seconds_to_limit.unwrap() - (100.0 * 4f64.ln() - 120.0)).abs() < 1e-3);
         assert_eq!(m.severity, Severity::Warning);
         assert_eq!(m.title, "Tank capacitor temperature");
+    }
+
+    #[test]
+    fn a_kept_margin_counts_down_as_a_fresh_fit_would() {
+        // The same readings fitted at 0 s and moved on to 120 s, against a fit made at 120 s.
+        let r = heating(120.0);
+        let early = &live_margins_at_loss(&Parts::default(), &r, None, 0.0)[0];
+        let fresh = &live_margins_at_loss(&Parts::default(), &r, None, 120.0)[0];
+        let moved = margin_at(early, 0.0, 120.0);
+        assert!((moved.seconds_to_limit.unwrap() - fresh.seconds_to_limit.unwrap()).abs() < 1e-9);
+        assert_eq!(moved.severity, fresh.severity);
+        assert_eq!(
+            margin_at(early, 0.0, 1e4).seconds_to_limit,
+            Some(0.0),
+            "never below 0"
+        );
     }
 
     #[test]

@@ -2,7 +2,6 @@
 
 use std::net::SocketAddr;
 use std::path::PathBuf;
-use std::sync::Arc;
 
 use anyhow::Context;
 
@@ -34,11 +33,7 @@ pub async fn run_server(
         .await
         .with_context(|| format!("cannot listen on {listen}"))?;
     let address = listener.local_addr()?;
-    let router = app(AppState {
-        store,
-        config: Arc::new(config),
-        run_feeds: Default::default(),
-    });
+    let router = app(AppState::new(store, config));
     println!("Eddybench is serving at http://{address}/");
     if let Some(banner) = banner {
         println!("{banner}");
@@ -47,6 +42,8 @@ pub async fn run_server(
     let listener = axum::serve::ListenerExt::tap_io(listener, |tcp| {
         let _ = tcp.set_nodelay(true);
     });
+    // The peer's address reaches the sign-in throttle.
+    let router = router.into_make_service_with_connect_info::<SocketAddr>();
     axum::serve(listener, router)
         .with_graceful_shutdown(async {
             let _ = tokio::signal::ctrl_c().await;

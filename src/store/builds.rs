@@ -131,6 +131,34 @@ impl Store {
     }
 }
 
+impl Store {
+    /// A short summary that changes whenever anything a build page shows changes: its runs
+    /// (count, readings, finishes), revisions, shares and audit trail, and its own fields. Read
+    /// in one indexed query, so a kept page is checked for freshness at every request.
+    pub async fn build_validator(&self, build_id: BuildId) -> StoreResult<String> {
+        Ok(sqlx::query_scalar(
+            "SELECT
+               (SELECT COUNT(*) || ':' || COALESCE(SUM(reading_count), 0) || ':'
+                       || COALESCE(MAX(id), 0) || ':' || COUNT(finished_at) || ':'
+                       -- an open run's page shows how long it has been running: a minute's
+                       -- tick is a change
+                       || CASE WHEN COUNT(*) > COUNT(finished_at) THEN unixepoch() / 60 ELSE 0 END
+                  FROM runs WHERE build_id = ?1)
+               || '|' || (SELECT COUNT(*) || ':' || COALESCE(MAX(id), 0)
+                  FROM revisions WHERE build_id = ?1)
+               || '|' || (SELECT COALESCE(MAX(id), 0) FROM audit_events WHERE build_id = ?1)
+               || '|' || (SELECT COUNT(*) || ':' || COUNT(revoked_at) || ':' || COALESCE(MAX(id), 0)
+                  FROM shares WHERE build_id = ?1)
+               || '|' || (SELECT length(name) || ':' || length(purpose) || ':' || length(notes)
+                          || ':' || name || purpose || notes
+                  FROM builds WHERE id = ?1)",
+        )
+        .bind(build_id)
+        .fetch_one(&self.pool)
+        .await?)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::slug_from_name;

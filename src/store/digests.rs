@@ -25,6 +25,7 @@ impl Store {
         version: i64,
         json: &str,
     ) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
         sqlx::query(
             "INSERT INTO run_digests (run_id, version, digest_json, computed_at) VALUES (?, ?, ?, ?)
              ON CONFLICT (run_id) DO UPDATE SET version = excluded.version,
@@ -34,20 +35,20 @@ impl Store {
         .bind(version)
         .bind(json)
         .bind(now_unix_s())
-        .execute(&self.pool)
+        .execute(&mut *tx)
         .await?;
-        Ok(())
+        tx.commit().await
     }
 }
 
 /// Drops a run's digest inside a write that changes its data.
 pub(super) async fn forget_digest(
-    tx: &mut sqlx::Transaction<'static, sqlx::Sqlite>,
+    tx: &mut sqlx::SqliteConnection,
     run_id: RunId,
 ) -> StoreResult<()> {
     sqlx::query("DELETE FROM run_digests WHERE run_id = ?")
         .bind(run_id)
-        .execute(&mut **tx)
+        .execute(&mut *tx)
         .await?;
     Ok(())
 }

@@ -24,6 +24,7 @@ impl Store {
     ) -> StoreResult<()> {
         let json = serde_json::to_string(channels)
             .map_err(|e| super::StoreError::Corrupt(e.to_string()))?;
+        let mut tx = self.begin_write().await?;
         sqlx::query(
             "INSERT INTO entry_orders (revision_id, channels_json, changed_by, changed_at)
              VALUES (?, ?, ?, ?)
@@ -34,8 +35,9 @@ impl Store {
         .bind(json)
         .bind(changed_by)
         .bind(now_unix_s())
-        .execute(&self.pool)
+        .execute(&mut *tx)
         .await?;
+        tx.commit().await?;
         Ok(())
     }
 }

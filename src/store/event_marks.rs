@@ -106,6 +106,7 @@ impl Store {
         reason: &str,
         voided_by: Option<UserId>,
     ) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
         let done = sqlx::query(
             "UPDATE event_marks SET voided_at = ?, voided_by = ?, void_reason = ?
              WHERE id = ? AND run_id = ? AND voided_at IS NULL",
@@ -115,12 +116,12 @@ impl Store {
         .bind(reason)
         .bind(mark_id)
         .bind(run_id)
-        .execute(&self.pool)
+        .execute(&mut *tx)
         .await?;
         if done.rows_affected() == 0 {
             return Err(StoreError::NotFound);
         }
-        Ok(())
+        tx.commit().await
     }
 
     /// Every mark of a run, voided ones included, in time order.

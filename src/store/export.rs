@@ -5,7 +5,7 @@
 use std::collections::HashMap;
 
 use serde_json::Value;
-use sqlx::{QueryBuilder, Sqlite, Transaction};
+use sqlx::{QueryBuilder, Sqlite};
 
 use super::builds::slug_from_name;
 use super::revisions::{PartRow, part_rows, parts_from_rows};
@@ -305,7 +305,7 @@ fn run_record(row: RunRow, readings: Vec<ReadingRow>) -> StoreResult<RunRecord> 
 
 /// Every run's event marks, as exported (who made them is not exported).
 async fn insert_marks(
-    tx: &mut Transaction<'static, Sqlite>,
+    tx: &mut sqlx::SqliteConnection,
     runs: &[RunRecord],
     run_ids: &[RunId],
 ) -> StoreResult<()> {
@@ -321,7 +321,7 @@ async fn insert_marks(
             .bind(mark.made_at)
             .bind(mark.voided_at)
             .bind(&mark.void_reason)
-            .execute(&mut **tx)
+            .execute(&mut *tx)
             .await?;
         }
     }
@@ -329,12 +329,12 @@ async fn insert_marks(
 }
 
 /// The slug itself when free, else the first free of `slug-2`, `slug-3`, … (as `create_build`).
-async fn free_slug(tx: &mut Transaction<'static, Sqlite>, base: &str) -> StoreResult<String> {
+async fn free_slug(tx: &mut sqlx::SqliteConnection, base: &str) -> StoreResult<String> {
     let taken: Vec<String> =
         sqlx::query_scalar("SELECT slug FROM builds WHERE slug = ? OR slug LIKE ? || '-%'")
             .bind(base)
             .bind(base)
-            .fetch_all(&mut **tx)
+            .fetch_all(&mut *tx)
             .await?;
     Ok((1..)
         .map(|n| {
@@ -349,7 +349,7 @@ async fn free_slug(tx: &mut Transaction<'static, Sqlite>, base: &str) -> StoreRe
 }
 
 async fn insert_revision(
-    tx: &mut Transaction<'static, Sqlite>,
+    tx: &mut sqlx::SqliteConnection,
     build_id: BuildId,
     revision: &RevisionRecord,
     earlier: &HashMap<i64, RevisionId>,
@@ -364,7 +364,7 @@ async fn insert_revision(
     .bind(parent)
     .bind(&revision.notes)
     .bind(revision.created_at)
-    .fetch_one(&mut **tx)
+    .fetch_one(&mut *tx)
     .await?;
     let rows = part_rows(&revision.parts)?;
     if rows.is_empty() {
@@ -382,12 +382,12 @@ async fn insert_revision(
             .push_bind(i64::from(*quantity))
             .push_bind(params);
     });
-    builder.build().execute(&mut **tx).await?;
+    builder.build().execute(&mut *tx).await?;
     Ok(id)
 }
 
 async fn insert_run(
-    tx: &mut Transaction<'static, Sqlite>,
+    tx: &mut sqlx::SqliteConnection,
     build_id: BuildId,
     revision_id: RevisionId,
     run: &RunRecord,
@@ -416,7 +416,7 @@ async fn insert_run(
     .bind(run.outcome.map(Outcome::as_str))
     .bind(&run.failed_part)
     .bind(&run.outcome_note)
-    .fetch_one(&mut **tx)
+    .fetch_one(&mut *tx)
     .await?)
 }
 
@@ -425,12 +425,12 @@ async fn insert_run(
 /// the ids after the current largest are free. Ids follow the document's order, which keeps a
 /// correction after the reading it replaces.
 async fn insert_readings(
-    tx: &mut Transaction<'static, Sqlite>,
+    tx: &mut sqlx::SqliteConnection,
     runs: &[RunRecord],
     run_ids: &[RunId],
 ) -> StoreResult<()> {
     let largest: i64 = sqlx::query_scalar("SELECT COALESCE(MAX(id), 0) FROM readings")
-        .fetch_one(&mut **tx)
+        .fetch_one(&mut *tx)
         .await?;
     let mut rows: Vec<(ReadingId, RunId, &ReadingRecord, Option<ReadingId>)> = Vec::new();
     let mut next = largest + 1;
@@ -457,13 +457,13 @@ async fn insert_readings(
                 .push("NULL")
                 .push_bind(reading.entered_at);
         });
-        builder.build().execute(&mut **tx).await?;
+        builder.build().execute(&mut *tx).await?;
     }
     for (run, run_id) in runs.iter().zip(run_ids) {
         sqlx::query("UPDATE runs SET reading_count = ? WHERE id = ?")
             .bind(run.readings.len() as i64)
             .bind(*run_id)
-            .execute(&mut **tx)
+            .execute(&mut *tx)
             .await?;
     }
     Ok(())

@@ -66,25 +66,46 @@ impl Store {
         Ok(fingerprints)
     }
 
-    /// Moves the last failed sign-in under `name` `seconds` into the past, as if that much
-    /// time had gone by since (the wait is computed from this stored time).
-    pub async fn backdate_login_failure(&self, name: &str, seconds: i64) -> StoreResult<()> {
-        sqlx::query("UPDATE login_failures SET last_failed_at = last_failed_at - ? WHERE name = ?")
+    /// Moves every failed sign-in `seconds` into the past, as if that much time had gone by
+    /// (the waits are computed from these stored times).
+    pub async fn backdate_login_failures(&self, seconds: i64) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
+        sqlx::query("UPDATE login_failures SET last_failed_at = last_failed_at - ?")
             .bind(seconds)
-            .bind(name)
-            .execute(&self.pool)
+            .execute(&mut *tx)
             .await?;
-        Ok(())
+        tx.commit().await
+    }
+}
+
+impl Store {
+    /// What SQLite's own checks find wrong: `PRAGMA integrity_check` (every line but "ok") and
+    /// `PRAGMA foreign_key_check` (one line per row whose parent is missing). Empty when sound.
+    pub async fn integrity_problems(&self) -> StoreResult<Vec<String>> {
+        let mut problems: Vec<String> = sqlx::query_scalar("PRAGMA integrity_check")
+            .fetch_all(&self.pool)
+            .await?;
+        problems.retain(|line| line != "ok");
+        let orphans: Vec<(String, Option<i64>, String)> =
+            sqlx::query_as("SELECT \"table\", rowid, parent FROM pragma_foreign_key_check")
+                .fetch_all(&self.pool)
+                .await?;
+        problems.extend(orphans.into_iter().map(|(table, rowid, parent)| {
+            format!("{table} row {rowid:?} names a missing {parent} row")
+        }));
+        Ok(problems)
     }
 
     /// Moves a run's start `seconds` into the past, as if it had been running that long (the
     /// time since the start of each reading is counted from this stored time).
     pub async fn backdate_run_start(&self, run_id: super::RunId, seconds: i64) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
         sqlx::query("UPDATE runs SET started_at = started_at - ? WHERE id = ?")
             .bind(seconds)
             .bind(run_id)
-            .execute(&self.pool)
+            .execute(&mut *tx)
             .await?;
+        tx.commit().await?;
         Ok(())
     }
 }

@@ -14,13 +14,14 @@ mod sessions;
 mod shares;
 mod tokens;
 mod users;
+mod writer;
 
 use std::path::Path;
 use std::str::FromStr;
 use std::time::Duration;
 
 use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions, SqliteSynchronous};
-use sqlx::{Sqlite, SqlitePool, Transaction};
+use sqlx::{ConnectOptions, SqlitePool};
 
 pub use attachments::{
     Attachment, AttachmentFiles, AttachmentId, AttachmentKind, NewAttachment, StoredFile,
@@ -36,6 +37,7 @@ pub use sessions::SessionUser;
 pub use shares::{AuditEvent, NewShare, Share, ShareId};
 pub use tokens::{ApiToken, NewToken, TokenUser};
 pub use users::{Role as UserRole, User};
+pub use writer::{WriteTx, WriterMetrics};
 
 /// Errors of the store: a row that is not there, a uniqueness clash, or the database itself.
 #[derive(Debug, thiserror::Error)]
@@ -48,6 +50,9 @@ pub enum StoreError {
     Database(#[from] sqlx::Error),
     #[error("stored data is malformed: {0}")]
     Corrupt(String),
+    /// The transaction holding a write could not be committed; nothing of it was kept.
+    #[error("the write was not saved: {0}")]
+    Commit(String),
 }
 
 pub type StoreResult<T> = Result<T, StoreError>;
@@ -85,33 +90,45 @@ id_type!(RunId);
 id_type!(ReadingId);
 id_type!(TokenId);
 
-/// The logbook database.
+/// The logbook database: a pool of read-only connections for reads, and the one writer.
 #[derive(Clone, Debug)]
 pub struct Store {
     pool: SqlitePool,
+    writer: writer::Writer,
 }
 
 /// The database file inside a data directory.
 pub const DATABASE_FILE: &str = "eddybench.db";
 
+/// Read connections: reads run side by side in WAL mode, never waiting for the writer.
+const READ_CONNECTIONS: u32 = 8;
+
 impl Store {
-    /// Opens (creating when missing) the logbook in `data_dir` and runs the embedded migrations.
+    /// Opens (creating when missing) the logbook in `data_dir`, runs the embedded migrations on
+    /// the writer's connection, and starts the writer.
     pub async fn open(data_dir: &Path) -> anyhow::Result<Store> {
         std::fs::create_dir_all(data_dir)?;
         let path = data_dir.join(DATABASE_FILE);
-        let options = SqliteConnectOptions::from_str(&format!("sqlite://{}", path.display()))?
+        let base = SqliteConnectOptions::from_str(&format!("sqlite://{}", path.display()))?
+            .foreign_keys(true)
+            // Readers wait here only while a checkpoint restarts the WAL; the writer never
+            // meets a busy lock, being the only writer.
+            .busy_timeout(Duration::from_secs(5));
+        let write_options = base
+            .clone()
             .create_if_missing(true)
             .journal_mode(SqliteJournalMode::Wal)
             // A logged measurement must survive a power cut at the bench.
-            .synchronous(SqliteSynchronous::Full)
-            .foreign_keys(true)
-            .busy_timeout(Duration::from_secs(5));
+            .synchronous(SqliteSynchronous::Full);
+        let mut conn = write_options.connect().await?;
+        sqlx::migrate!("./migrations").run(&mut conn).await?;
+        readings::forget_unpublished_imports(&mut conn).await?;
         let pool = SqlitePoolOptions::new()
-            .max_connections(8)
-            .connect_with(options)
+            .max_connections(READ_CONNECTIONS)
+            .connect_with(base.read_only(true))
             .await?;
-        sqlx::migrate!("./migrations").run(&pool).await?;
-        Ok(Store { pool })
+        let writer = writer::Writer::start(conn, write_options);
+        Ok(Store { pool, writer })
     }
 
     /// Whether the database answers (for `/healthz`).
@@ -120,10 +137,15 @@ impl Store {
         Ok(())
     }
 
-    /// A write transaction that takes the write lock up front, so a read-then-write cannot be
-    /// overtaken by another writer between its read and its write.
-    async fn begin_write(&self) -> StoreResult<Transaction<'static, Sqlite>> {
-        Ok(self.pool.begin_with("BEGIN IMMEDIATE").await?)
+    /// A write on the writer's connection: see [`WriteTx`]. It shares a transaction with the
+    /// writes queued beside it, and `commit` answers once that transaction is durable.
+    pub(crate) async fn begin_write(&self) -> StoreResult<WriteTx> {
+        self.writer.begin().await
+    }
+
+    /// What the writer has done since start (queue depth, batch sizes, commit times).
+    pub fn writer_metrics(&self) -> WriterMetrics {
+        self.writer.metrics()
     }
 }
 
@@ -146,7 +168,7 @@ impl Store {
     /// Rows in a table, for tests that check that nothing was saved. Only the logbook's own
     /// table names are accepted.
     pub async fn count_rows(&self, table: &str) -> StoreResult<i64> {
-        const TABLES: [&str; 14] = [
+        const TABLES: [&str; 16] = [
             "users",
             "sessions",
             "builds",
@@ -160,6 +182,8 @@ impl Store {
             "audit_events",
             "api_tokens",
             "attachments",
+            "reading_imports",
+            "staged_readings",
             "event_marks",
         ];
         if !TABLES.contains(&table) {
@@ -182,14 +206,17 @@ pub struct Pragmas {
 }
 
 impl Store {
+    /// The settings of the writer's connection (the one whose durability counts); the write it
+    /// borrows for this changes nothing and is discarded.
     pub async fn pragmas(&self) -> StoreResult<Pragmas> {
+        let mut tx = self.begin_write().await?;
         Ok(sqlx::query_as(
             "SELECT (SELECT journal_mode FROM pragma_journal_mode) AS journal_mode,
                     (SELECT synchronous FROM pragma_synchronous) AS synchronous,
                     (SELECT foreign_keys FROM pragma_foreign_keys) AS foreign_keys,
                     (SELECT timeout FROM pragma_busy_timeout) AS busy_timeout_ms",
         )
-        .fetch_one(&self.pool)
+        .fetch_one(&mut *tx)
         .await?)
     }
 }

@@ -3,7 +3,7 @@
 use std::collections::HashMap;
 
 use serde::Serialize;
-use sqlx::{Sqlite, Transaction};
+use sqlx::SqliteConnection;
 
 use super::{ReadingId, RunId, Store, StoreError, StoreResult, UserId, now_unix_s};
 
@@ -160,8 +160,8 @@ impl Store {
         .collect())
     }
 
-    /// One page of a run's current values, newest first (by time), and the replaced values of
-    /// those rows: a page that shows the latest few dozen never reads the whole run.
+    /// One page of a run's current values, the latest logged first: a page that shows the
+    /// latest few dozen never reads (or sorts) the whole run.
     pub async fn readings_page(
         &self,
         run_id: RunId,
@@ -173,7 +173,7 @@ impl Store {
              FROM readings r
              WHERE r.run_id = ?
                AND NOT EXISTS (SELECT 1 FROM readings c WHERE c.corrects_id = r.id)
-             ORDER BY r.t_s DESC, r.id DESC LIMIT ? OFFSET ?",
+             ORDER BY r.id DESC LIMIT ? OFFSET ?",
         )
         .bind(run_id)
         .bind(limit)
@@ -212,7 +212,7 @@ impl Store {
     pub fn readings_import(&self, run_id: RunId, entered_by: Option<UserId>) -> ReadingsImport {
         ReadingsImport {
             store: self.clone(),
-            tx: None,
+            import_id: None,
             run_id,
             entered_by,
             inserted: 0,
@@ -240,12 +240,12 @@ impl Store {
 /// resend); one whose id is stored with another time or value refuses the whole set. Returns how
 /// many were left out.
 pub(super) async fn insert_readings(
-    tx: &mut sqlx::Transaction<'static, sqlx::Sqlite>,
+    tx: &mut SqliteConnection,
     run_id: RunId,
     readings: &[NewReading],
     entered_by: Option<UserId>,
 ) -> StoreResult<u64> {
-    let fresh = leave_out_resent(tx, run_id, readings).await?;
+    let fresh = leave_out_resent(tx, Sent::Stored(run_id), readings).await?;
     let already_stored = (readings.len() - fresh.len()) as u64;
     if fresh.is_empty() {
         return Ok(already_stored);
@@ -254,7 +254,7 @@ pub(super) async fn insert_readings(
     sqlx::query("UPDATE runs SET reading_count = reading_count + ? WHERE id = ?")
         .bind(fresh.len() as i64)
         .bind(run_id)
-        .execute(&mut **tx)
+        .execute(&mut *tx)
         .await?;
     let now = now_unix_s();
     for chunk in fresh.chunks(ROWS_PER_STATEMENT) {
@@ -270,9 +270,17 @@ pub(super) async fn insert_readings(
                 .push_bind(entered_by)
                 .push_bind(now);
         });
-        builder.build().execute(&mut **tx).await?;
+        builder.build().execute(&mut *tx).await?;
     }
     Ok(already_stored)
+}
+
+/// Where earlier copies of sent readings are looked for: the run's readings, or the rows an
+/// import in progress has staged.
+#[derive(Clone, Copy)]
+enum Sent {
+    Stored(RunId),
+    Staged(i64),
 }
 
 /// What a stored reading was sent as: compared with a resend of its id.
@@ -293,8 +301,8 @@ impl SentAs {
 /// The readings not stored yet: a resend (the same id, time, channel and value, in the database
 /// or earlier in the same set) is left out; the same id with anything else is a conflict.
 async fn leave_out_resent<'r>(
-    tx: &mut sqlx::Transaction<'static, sqlx::Sqlite>,
-    run_id: RunId,
+    tx: &mut SqliteConnection,
+    sent_in: Sent,
     readings: &'r [NewReading],
 ) -> StoreResult<Vec<&'r NewReading>> {
     let ids: Vec<&str> = readings
@@ -306,16 +314,29 @@ async fn leave_out_resent<'r>(
     }
     let mut sent: HashMap<String, SentAs> = HashMap::new();
     for chunk in ids.chunks(ROWS_PER_STATEMENT) {
-        let mut builder = sqlx::QueryBuilder::<sqlx::Sqlite>::new(
-            "SELECT client_id, t_s, channel, value FROM readings WHERE run_id = ",
-        );
-        builder.push_bind(run_id).push(" AND client_id IN (");
+        let mut builder = match sent_in {
+            Sent::Stored(run_id) => {
+                let mut b = sqlx::QueryBuilder::<sqlx::Sqlite>::new(
+                    "SELECT client_id, t_s, channel, value FROM readings WHERE run_id = ",
+                );
+                b.push_bind(run_id);
+                b
+            }
+            Sent::Staged(import_id) => {
+                let mut b = sqlx::QueryBuilder::<sqlx::Sqlite>::new(
+                    "SELECT client_id, t_s, channel, value FROM staged_readings WHERE import_id = ",
+                );
+                b.push_bind(import_id);
+                b
+            }
+        };
+        builder.push(" AND client_id IN (");
         let mut list = builder.separated(", ");
         for id in chunk {
             list.push_bind(*id);
         }
         builder.push(")");
-        let rows: Vec<SentAs> = builder.build_query_as().fetch_all(&mut **tx).await?;
+        let rows: Vec<SentAs> = builder.build_query_as().fetch_all(&mut *tx).await?;
         sent.extend(rows.into_iter().map(|row| (row.client_id.clone(), row)));
     }
     let mut fresh = Vec::with_capacity(readings.len());
@@ -350,35 +371,67 @@ async fn leave_out_resent<'r>(
     Ok(fresh)
 }
 
-/// A bulk import into one run, written as it is read, in one write transaction: all rows or
-/// none. Dropping it without `commit` rolls everything back.
+/// A bulk import into one run, checked and written as it is read: all rows or none.
 ///
-/// The transaction (and with it the database's write lock) begins with the first rows pushed,
-/// so the time spent reading and checking a body before its first rows costs other writers
-/// nothing; it then lasts until `commit`.
+/// Each `push` is its own short write into a staging table, so a slow or stalled upload never
+/// holds the writer; `commit` copies the staged rows into the run in one step. Dropping the
+/// import without `commit` deletes what it staged.
 pub struct ReadingsImport {
     store: Store,
-    tx: Option<Transaction<'static, Sqlite>>,
+    import_id: Option<i64>,
     run_id: RunId,
     entered_by: Option<UserId>,
     inserted: u64,
     already_stored: u64,
 }
 
+/// Staged rows deleted per write when an import is cleared away, so the clean-up interleaves
+/// with other writes.
+const DISCARD_ROWS_PER_WRITE: i64 = 20_000;
+
 impl ReadingsImport {
-    /// Writes checked rows inside the import's transaction.
+    /// Stages checked rows (one short write).
     pub async fn push(&mut self, readings: &[NewReading]) -> StoreResult<()> {
         if readings.is_empty() {
             return Ok(());
         }
-        let tx = match self.tx.take() {
-            Some(tx) => tx,
-            None => begin_import(&self.store, self.run_id).await?,
+        let mut tx = self.store.begin_write().await?;
+        let import_id = match self.import_id {
+            Some(id) => id,
+            None => {
+                ensure_open(&mut tx, self.run_id).await?;
+                let id: i64 = sqlx::query_scalar(
+                    "INSERT INTO reading_imports (run_id, started_at) VALUES (?, ?) RETURNING id",
+                )
+                .bind(self.run_id)
+                .bind(now_unix_s())
+                .fetch_one(&mut *tx)
+                .await?;
+                id
+            }
         };
-        let tx = self.tx.insert(tx);
-        let already_stored = insert_readings(tx, self.run_id, readings, self.entered_by).await?;
-        self.already_stored += already_stored;
-        self.inserted += readings.len() as u64 - already_stored;
+        // A resend is left out whether its first copy is stored or staged by this import.
+        let fresh = leave_out_resent(&mut tx, Sent::Stored(self.run_id), readings).await?;
+        let fresh: Vec<NewReading> = fresh.into_iter().cloned().collect();
+        let fresh = leave_out_resent(&mut tx, Sent::Staged(import_id), &fresh).await?;
+        for chunk in fresh.chunks(ROWS_PER_STATEMENT) {
+            let mut builder = sqlx::QueryBuilder::<sqlx::Sqlite>::new(
+                "INSERT INTO staged_readings (import_id, t_s, channel, value, client_id) ",
+            );
+            builder.push_values(chunk, |mut row, reading| {
+                row.push_bind(import_id)
+                    .push_bind(reading.t_s)
+                    .push_bind(&reading.channel)
+                    .push_bind(reading.value)
+                    .push_bind(&reading.client_id);
+            });
+            builder.build().execute(&mut *tx).await?;
+        }
+        // Staged rows need not be durable one chunk at a time: `commit` counts them.
+        tx.keep_without_waiting();
+        self.import_id = Some(import_id);
+        self.already_stored += (readings.len() - fresh.len()) as u64;
+        self.inserted += fresh.len() as u64;
         Ok(())
     }
 
@@ -387,48 +440,143 @@ impl ReadingsImport {
         self.already_stored
     }
 
-    /// Makes every pushed row permanent and returns how many there were.
+    /// Publishes every staged row into the run in one write and returns how many there were.
     pub async fn commit(self) -> StoreResult<u64> {
-        if let Some(mut tx) = self.tx {
-            if self.inserted == 0 {
-                // Every row was a resend: nothing changed, nothing to record.
-                return Ok(0);
-            }
-            let build_id: super::BuildId =
-                sqlx::query_scalar("SELECT build_id FROM runs WHERE id = ?")
-                    .bind(self.run_id)
-                    .fetch_one(&mut *tx)
-                    .await?;
-            let detail = format!("{} rows", self.inserted);
-            super::shares::record(
-                &mut tx,
-                self.entered_by,
-                Some(build_id),
-                "readings imported",
-                &format!("run {}", self.run_id),
-                &detail,
-            )
-            .await?;
-            tx.commit().await?;
+        let Some(import_id) = self.import_id else {
+            return Ok(0);
+        };
+        if self.inserted == 0 {
+            // Every row was a resend: nothing changed, nothing to record.
+            self.discard().await?;
+            return Ok(0);
         }
-        Ok(self.inserted)
+        let mut tx = self.store.begin_write().await?;
+        // Checked again under the writer: a run finished meanwhile refuses the rows.
+        ensure_open(&mut tx, self.run_id).await?;
+        super::digests::forget_digest(&mut tx, self.run_id).await?;
+        let published = sqlx::query(
+            "INSERT INTO readings (run_id, t_s, channel, value, client_id, entered_by, entered_at)
+             SELECT ?, t_s, channel, value, client_id, ?, ? FROM staged_readings
+             WHERE import_id = ? ORDER BY rowid",
+        )
+        .bind(self.run_id)
+        .bind(self.entered_by)
+        .bind(now_unix_s())
+        .bind(import_id)
+        .execute(&mut *tx)
+        .await
+        // The same sender id stored beside the import since it was checked.
+        .map_err(|e| {
+            super::conflict_on_unique(e, "a reading id of this import was stored meanwhile")
+        })?
+        .rows_affected();
+        if published != self.inserted {
+            // A staged chunk's commit failed on the way: keep nothing rather than a part.
+            return Err(StoreError::Commit(format!(
+                "{published} of {} staged rows were found",
+                self.inserted
+            )));
+        }
+        sqlx::query("UPDATE runs SET reading_count = reading_count + ? WHERE id = ?")
+            .bind(self.inserted as i64)
+            .bind(self.run_id)
+            .execute(&mut *tx)
+            .await?;
+        let build_id: super::BuildId = sqlx::query_scalar("SELECT build_id FROM runs WHERE id = ?")
+            .bind(self.run_id)
+            .fetch_one(&mut *tx)
+            .await?;
+        let detail = format!("{} rows", self.inserted);
+        super::shares::record(
+            &mut tx,
+            self.entered_by,
+            Some(build_id),
+            "readings imported",
+            &format!("run {}", self.run_id),
+            &detail,
+        )
+        .await?;
+        tx.commit().await?;
+        // The staged copies go before the answer, in bounded writes, so the import leaves
+        // nothing behind it by the time its caller hears of it.
+        let inserted = self.inserted;
+        self.discard().await?;
+        Ok(inserted)
+    }
+
+    /// Deletes what the import staged (the same happens, later, when it is dropped).
+    pub async fn discard(mut self) -> StoreResult<()> {
+        match self.import_id.take() {
+            Some(import_id) => discard_import(&self.store, import_id).await,
+            None => Ok(()),
+        }
     }
 }
 
-/// The write transaction of an import, once the run is known to be still open (checked under
-/// the write lock, so a run finished meanwhile refuses the rows).
-async fn begin_import(store: &Store, run_id: RunId) -> StoreResult<Transaction<'static, Sqlite>> {
-    let mut tx = store.begin_write().await?;
+impl Drop for ReadingsImport {
+    fn drop(&mut self) {
+        let Some(import_id) = self.import_id.take() else {
+            return;
+        };
+        let store = self.store.clone();
+        if let Ok(runtime) = tokio::runtime::Handle::try_current() {
+            runtime.spawn(async move {
+                if let Err(error) = discard_import(&store, import_id).await {
+                    // Left for the next start, which clears every unfinished import.
+                    tracing::warn!(%error, import_id, "could not clear staged readings");
+                }
+            });
+        }
+    }
+}
+
+/// Deletes an import's staged rows a bounded number per write, then the import itself.
+async fn discard_import(store: &Store, import_id: i64) -> StoreResult<()> {
+    loop {
+        let mut tx = store.begin_write().await?;
+        let deleted = sqlx::query(
+            "DELETE FROM staged_readings WHERE rowid IN
+                 (SELECT rowid FROM staged_readings WHERE import_id = ? LIMIT ?)",
+        )
+        .bind(import_id)
+        .bind(DISCARD_ROWS_PER_WRITE)
+        .execute(&mut *tx)
+        .await?
+        .rows_affected();
+        if deleted == 0 {
+            sqlx::query("DELETE FROM reading_imports WHERE id = ?")
+                .bind(import_id)
+                .execute(&mut *tx)
+                .await?;
+            return tx.commit().await;
+        }
+        tx.commit().await?;
+    }
+}
+
+/// At start no import is in progress: whatever is staged belongs to one that never finished.
+pub(super) async fn forget_unpublished_imports(conn: &mut SqliteConnection) -> StoreResult<()> {
+    sqlx::query("DELETE FROM staged_readings")
+        .execute(&mut *conn)
+        .await?;
+    sqlx::query("DELETE FROM reading_imports")
+        .execute(&mut *conn)
+        .await?;
+    Ok(())
+}
+
+/// Refuses rows for a run that is missing or finished.
+async fn ensure_open(conn: &mut SqliteConnection, run_id: RunId) -> StoreResult<()> {
     let finished_at: Option<Option<i64>> =
         sqlx::query_scalar("SELECT finished_at FROM runs WHERE id = ?")
             .bind(run_id)
-            .fetch_optional(&mut *tx)
+            .fetch_optional(&mut *conn)
             .await?;
     match finished_at {
         None => Err(StoreError::NotFound),
         Some(Some(_)) => Err(StoreError::Conflict(
             "this run is finished; readings can no longer be added".into(),
         )),
-        Some(None) => Ok(tx),
+        Some(None) => Ok(()),
     }
 }

@@ -31,6 +31,7 @@ impl Store {
         csrf_token: &str,
     ) -> StoreResult<()> {
         let now = now_unix_s();
+        let mut tx = self.begin_write().await?;
         sqlx::query(
             "INSERT INTO sessions (id_hash, user_id, csrf_token, created_at, last_seen_at)
              VALUES (?, ?, ?, ?, ?)",
@@ -40,9 +41,9 @@ impl Store {
         .bind(csrf_token)
         .bind(now)
         .bind(now)
-        .execute(&self.pool)
+        .execute(&mut *tx)
         .await?;
-        Ok(())
+        tx.commit().await
     }
 
     /// The user of a live session, touching its last-seen time. Sessions idle longer than
@@ -67,11 +68,13 @@ impl Store {
         let Some(row) = row else { return Ok(None) };
         // Touch at most once a minute: a page view should not always be a write.
         if now - row.last_seen_at > 60 {
+            let mut tx = self.begin_write().await?;
             sqlx::query("UPDATE sessions SET last_seen_at = ? WHERE id_hash = ?")
                 .bind(now)
                 .bind(id_hash)
-                .execute(&self.pool)
+                .execute(&mut *tx)
                 .await?;
+            tx.commit().await?;
         }
         Ok(Some(SessionUser {
             user_id: row.user_id,
@@ -84,10 +87,11 @@ impl Store {
     }
 
     pub async fn delete_session(&self, id_hash: &str) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
         sqlx::query("DELETE FROM sessions WHERE id_hash = ?")
             .bind(id_hash)
-            .execute(&self.pool)
+            .execute(&mut *tx)
             .await?;
-        Ok(())
+        tx.commit().await
     }
 }

@@ -59,7 +59,7 @@ pub struct AuditEvent {
 
 /// Appends to the audit trail inside a write transaction, naming the actor by display name.
 pub(super) async fn record(
-    tx: &mut sqlx::Transaction<'static, sqlx::Sqlite>,
+    tx: &mut sqlx::SqliteConnection,
     actor: Option<UserId>,
     build_id: Option<BuildId>,
     action: &str,
@@ -77,14 +77,15 @@ pub(super) async fn record(
     .bind(action)
     .bind(subject)
     .bind(detail)
-    .execute(&mut **tx)
+    .execute(&mut *tx)
     .await?;
     Ok(())
 }
 
 impl Store {
     pub async fn create_share(&self, new: &NewShare<'_>) -> StoreResult<ShareId> {
-        Ok(sqlx::query_scalar(
+        let mut tx = self.begin_write().await?;
+        let id = sqlx::query_scalar(
             "INSERT INTO shares (build_id, revision_number, label, token_hash, created_by,
                 created_at, expires_at) VALUES (?, ?, ?, ?, ?, ?, ?) RETURNING id",
         )
@@ -95,8 +96,10 @@ impl Store {
         .bind(new.created_by)
         .bind(now_unix_s())
         .bind(new.expires_at)
-        .fetch_one(&self.pool)
-        .await?)
+        .fetch_one(&mut *tx)
+        .await?;
+        tx.commit().await?;
+        Ok(id)
     }
 
     /// The live share behind a token hash; revoked and expired links are not found.
@@ -138,12 +141,13 @@ impl Store {
 
     /// Revokes a link; revoking twice is harmless.
     pub async fn revoke_share(&self, id: ShareId) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
         sqlx::query("UPDATE shares SET revoked_at = COALESCE(revoked_at, ?) WHERE id = ?")
             .bind(now_unix_s())
             .bind(id)
-            .execute(&self.pool)
+            .execute(&mut *tx)
             .await?;
-        Ok(())
+        tx.commit().await
     }
 
     /// Appends to the audit trail.
@@ -155,6 +159,7 @@ impl Store {
         subject: &str,
         detail: &str,
     ) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
         sqlx::query(
             "INSERT INTO audit_events (at, actor_id, actor_name, build_id, action, subject, detail)
              VALUES (?, ?, ?, ?, ?, ?, ?)",
@@ -166,9 +171,9 @@ impl Store {
         .bind(action)
         .bind(subject)
         .bind(detail)
-        .execute(&self.pool)
+        .execute(&mut *tx)
         .await?;
-        Ok(())
+        tx.commit().await
     }
 
     /// The audit trail of a build, newest first.

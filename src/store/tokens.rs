@@ -49,6 +49,7 @@ impl Store {
     /// Makes a token for a user and returns it with its id; only its hash is kept.
     pub async fn create_token(&self, user_id: UserId, label: &str) -> StoreResult<NewToken> {
         let token = random_token();
+        let mut tx = self.begin_write().await?;
         let id = sqlx::query_scalar(
             "INSERT INTO api_tokens (user_id, label, token_hash, created_at)
              VALUES (?, ?, ?, ?) RETURNING id",
@@ -57,25 +58,27 @@ impl Store {
         .bind(label)
         .bind(token_hash(&token))
         .bind(now_unix_s())
-        .fetch_one(&self.pool)
+        .fetch_one(&mut *tx)
         .await?;
+        tx.commit().await?;
         Ok(NewToken { id, token })
     }
 
     /// Stops a token working. Revoking twice is a conflict, an unknown id is not found.
     pub async fn revoke_token(&self, id: TokenId) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
         let done =
             sqlx::query("UPDATE api_tokens SET revoked_at = ? WHERE id = ? AND revoked_at IS NULL")
                 .bind(now_unix_s())
                 .bind(id)
-                .execute(&self.pool)
+                .execute(&mut *tx)
                 .await?;
         if done.rows_affected() == 1 {
-            return Ok(());
+            return tx.commit().await;
         }
         let exists: Option<i64> = sqlx::query_scalar("SELECT 1 FROM api_tokens WHERE id = ?")
             .bind(id)
-            .fetch_optional(&self.pool)
+            .fetch_optional(&mut *tx)
             .await?;
         match exists {
             Some(_) => Err(StoreError::Conflict(format!(
@@ -102,12 +105,8 @@ impl Store {
             .last_used_at
             .is_none_or(|used| now - used >= TOUCH_INTERVAL_S)
         {
-            // Best effort: a long import holding the write lock must not make a token fail.
-            let touched = sqlx::query("UPDATE api_tokens SET last_used_at = ? WHERE id = ?")
-                .bind(now)
-                .bind(row.token_id)
-                .execute(&self.pool)
-                .await;
+            // Best effort: a failed touch must not make a token fail.
+            let touched = self.touch_token(row.token_id, now).await;
             if let Err(error) = touched {
                 tracing::warn!(?error, token = %row.token_id, "could not record token use");
             }
@@ -120,6 +119,16 @@ impl Store {
             name: row.name,
             display_name: row.display_name,
         }))
+    }
+
+    async fn touch_token(&self, id: TokenId, now: i64) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
+        sqlx::query("UPDATE api_tokens SET last_used_at = ? WHERE id = ?")
+            .bind(now)
+            .bind(id)
+            .execute(&mut *tx)
+            .await?;
+        tx.commit().await
     }
 
     /// Every token, revoked ones included, oldest first.

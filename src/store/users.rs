@@ -147,57 +147,98 @@ impl Store {
         Ok(())
     }
 
-    /// Takes one sign-in attempt under a name, or refuses it with the seconds still to wait
-    /// after the failures so far (`wait_s` of their count, from the last one). A taken attempt
-    /// counts as a failure at once, and `clear_login_failures` forgets it when the password
-    /// matches. Reading and counting in one write transaction makes attempts sent at the same
-    /// moment take their turns, so they cannot all pass the same check.
+    /// Takes one sign-in attempt for the account `name` from the address `source`, or refuses
+    /// it with the seconds still to wait. Two counters: the source's failures (on any name) and
+    /// the account's failures (from any source). A source waits out its own failures; it waits
+    /// out the account's only once it has failed itself, so an attacker elsewhere slows the
+    /// account for failing sources but never locks out its owner signing in from a clean one.
+    /// A taken attempt counts as a failure at once on both counters and
+    /// `clear_login_failures` forgets it when the password matches; reading and counting in
+    /// one write makes attempts sent at the same moment take their turns.
     pub async fn claim_login_attempt(
         &self,
         name: &str,
+        source: &str,
         wait_s: impl Fn(i64) -> i64,
     ) -> StoreResult<Option<i64>> {
+        let (account, source) = (account_key(name), source_key(source));
         let mut tx = self.begin_write().await?;
         let now = now_unix_s();
-        let so_far: Option<(i64, i64)> =
-            sqlx::query_as("SELECT failures, last_failed_at FROM login_failures WHERE name = ?")
-                .bind(name)
-                .fetch_optional(&mut *tx)
-                .await?;
-        if let Some((failures, last_failed_at)) = so_far {
-            let wait = last_failed_at + wait_s(failures) - now;
-            if wait > 0 {
-                return Ok(Some(wait));
-            }
+        sqlx::query("DELETE FROM login_failures WHERE last_failed_at < ?")
+            .bind(now - FAILURES_KEPT_S)
+            .execute(&mut *tx)
+            .await?;
+        let mut counted = Vec::new();
+        for key in [&source, &account] {
+            let so_far: Option<(i64, i64)> = sqlx::query_as(
+                "SELECT failures, last_failed_at FROM login_failures WHERE name = ?",
+            )
+            .bind(key)
+            .fetch_optional(&mut *tx)
+            .await?;
+            counted.push(so_far);
         }
-        sqlx::query(
-            "INSERT INTO login_failures (name, failures, last_failed_at) VALUES (?, 1, ?)
-             ON CONFLICT (name) DO UPDATE
-             SET failures = failures + 1, last_failed_at = excluded.last_failed_at",
-        )
-        .bind(name)
-        .bind(now)
-        .execute(&mut *tx)
-        .await?;
+        let source_failing = counted[0].is_some();
+        let wait = counted
+            .iter()
+            .enumerate()
+            .filter(|(i, _)| *i == 0 || source_failing)
+            .filter_map(|(_, c)| c.map(|(failures, last)| last + wait_s(failures) - now))
+            .max()
+            .unwrap_or(0);
+        if wait > 0 {
+            return Ok(Some(wait));
+        }
+        for key in [&source, &account] {
+            sqlx::query(
+                "INSERT INTO login_failures (name, failures, last_failed_at) VALUES (?, 1, ?)
+                 ON CONFLICT (name) DO UPDATE
+                 SET failures = failures + 1, last_failed_at = excluded.last_failed_at",
+            )
+            .bind(key)
+            .bind(now)
+            .execute(&mut *tx)
+            .await?;
+        }
         tx.commit().await?;
         Ok(None)
     }
 
-    /// Failures so far under a name and the time of the last one.
+    /// Failures so far on an account (from every source) and the time of the last one.
     pub async fn login_failures(&self, name: &str) -> StoreResult<Option<(i64, i64)>> {
         Ok(
             sqlx::query_as("SELECT failures, last_failed_at FROM login_failures WHERE name = ?")
-                .bind(name)
+                .bind(account_key(name))
                 .fetch_optional(&self.pool)
                 .await?,
         )
     }
 
-    pub async fn clear_login_failures(&self, name: &str) -> StoreResult<()> {
-        sqlx::query("DELETE FROM login_failures WHERE name = ?")
-            .bind(name)
-            .execute(&self.pool)
+    /// Forgets the failures of an account and of the source it was just signed in from.
+    pub async fn clear_login_failures(&self, name: &str, source: &str) -> StoreResult<()> {
+        let mut tx = self.begin_write().await?;
+        sqlx::query("DELETE FROM login_failures WHERE name IN (?, ?)")
+            .bind(account_key(name))
+            .bind(source_key(source))
+            .execute(&mut *tx)
             .await?;
-        Ok(())
+        tx.commit().await
     }
+}
+
+/// Failures older than this are forgotten (the longest wait is far shorter).
+const FAILURES_KEPT_S: i64 = 24 * 3600;
+
+/// The counter of an account: a hash, so any name typed costs one short row.
+fn account_key(name: &str) -> String {
+    use sha2::Digest;
+    format!(
+        "account:{}",
+        hex::encode(sha2::Sha256::digest(name.as_bytes()))
+    )
+}
+
+/// The counter of a source address, at most a few dozen characters.
+fn source_key(source: &str) -> String {
+    format!("source:{}", source.chars().take(64).collect::<String>())
 }

@@ -17,6 +17,17 @@ pub async fn headers(State(state): State<AppState>, request: Request, next: Next
         .uri()
         .path()
         .starts_with(crate::web::reader::SHARE_PREFIX);
+    // Answers for a signed-in person or a script carry that person's logbook: no browser or
+    // proxy keeps them, pictures included, so nothing of it outlives a sign-out on a shared
+    // phone. Only the public stylesheet and scripts may be cached.
+    let personal = !request.uri().path().starts_with("/static/")
+        && (request.headers().contains_key(header::AUTHORIZATION)
+            || crate::web::accounts::session::cookie(
+                request.headers(),
+                crate::web::accounts::session::SESSION_COOKIE,
+            )
+            .is_some()
+            || request.uri().path().starts_with("/api/"));
     let mut response = next.run(request).await;
     let headers = response.headers_mut();
     let set = |headers: &mut axum::http::HeaderMap, name, value: &'static str| {
@@ -42,6 +53,12 @@ pub async fn headers(State(state): State<AppState>, request: Request, next: Next
             HeaderName::from_static("x-robots-tag"),
             HeaderValue::from_static("noindex, nofollow"),
         );
+        headers.insert(
+            header::CACHE_CONTROL,
+            HeaderValue::from_static("private, no-store"),
+        );
+    }
+    if personal {
         headers.insert(
             header::CACHE_CONTROL,
             HeaderValue::from_static("private, no-store"),

@@ -3,7 +3,6 @@
 
 use std::io::{BufRead, BufReader};
 use std::process::{Child, Command, Stdio};
-use std::sync::Arc;
 
 use fantoccini::{Client, ClientBuilder, Locator};
 use hyper_util::client::legacy::connect::HttpConnector;
@@ -28,11 +27,10 @@ impl Served {
     pub async fn start() -> Served {
         let dir = tempfile::tempdir().unwrap();
         let store = Store::open(dir.path()).await.unwrap();
-        let router = app(AppState {
-            store: store.clone(),
-            config: Arc::new(Config::new(dir.path().to_path_buf())),
-            run_feeds: Default::default(),
-        });
+        let router = app(AppState::new(
+            store.clone(),
+            Config::new(dir.path().to_path_buf()),
+        ));
         // Bound before the server task starts, so it accepts as soon as the test connects.
         let listener = tokio::net::TcpListener::bind("127.0.0.1:0").await.unwrap();
         let base = format!("http://{}", listener.local_addr().unwrap());

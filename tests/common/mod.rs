@@ -5,8 +5,6 @@ pub mod chart_fixtures;
 pub mod fixtures;
 pub use fixtures::*;
 
-use std::sync::Arc;
-
 use axum::Router;
 use axum::body::Body;
 use axum::http::{Request, Response, StatusCode, header};
@@ -86,13 +84,16 @@ impl Page {
 
 impl TestApp {
     pub async fn new() -> TestApp {
+        TestApp::with_config(|_| {}).await
+    }
+
+    /// A test app whose configuration `adjust` changes first.
+    pub async fn with_config(adjust: impl FnOnce(&mut Config)) -> TestApp {
         let dir = tempfile::tempdir().unwrap();
         let store = Store::open(dir.path()).await.unwrap();
-        let state = AppState {
-            store: store.clone(),
-            config: Arc::new(Config::new(dir.path().to_path_buf())),
-            run_feeds: Default::default(),
-        };
+        let mut config = Config::new(dir.path().to_path_buf());
+        adjust(&mut config);
+        let state = AppState::new(store.clone(), config);
         TestApp {
             router: app(state),
             store,
@@ -121,6 +122,17 @@ impl TestApp {
 
     /// Posts the login form as a browser would (token cookie, Origin) and returns the answer.
     pub async fn login_attempt(&self, name: &str, password: &str, next: &str) -> Page {
+        self.login_attempt_from(name, password, next, None).await
+    }
+
+    /// As `login_attempt`, from the peer address `source` (as the real server sees it).
+    pub async fn login_attempt_from(
+        &self,
+        name: &str,
+        password: &str,
+        next: &str,
+        source: Option<std::net::SocketAddr>,
+    ) -> Page {
         let page = self
             .send(
                 Request::get("/login")
@@ -139,16 +151,19 @@ impl TestApp {
             ("password", password),
             ("next", next),
         ]);
-        self.send(
-            Request::post("/login")
-                .header(header::HOST, HOST)
-                .header(header::ORIGIN, ORIGIN)
-                .header(header::COOKIE, format!("eb_csrf={pre_cookie}"))
-                .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded")
-                .body(Body::from(body))
-                .unwrap(),
-        )
-        .await
+        let mut request = Request::post("/login")
+            .header(header::HOST, HOST)
+            .header(header::ORIGIN, ORIGIN)
+            .header(header::COOKIE, format!("eb_csrf={pre_cookie}"))
+            .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded")
+            .body(Body::from(body))
+            .unwrap();
+        if let Some(source) = source {
+            request
+                .extensions_mut()
+                .insert(axum::extract::ConnectInfo(source));
+        }
+        self.send(request).await
     }
 
     pub async fn login(&self, name: &str, password: &str) -> Option<Session> {

@@ -2,10 +2,13 @@
 
 use askama::Template;
 use askama_web::WebTemplate;
-use axum::Form;
+use std::net::{IpAddr, SocketAddr};
+
+use axum::extract::ConnectInfo;
 use axum::extract::{Query, State};
 use axum::http::header;
 use axum::response::{AppendHeaders, IntoResponse, Redirect, Response};
+use axum::{Extension, Form};
 use serde::Deserialize;
 
 use crate::secrets::{decoy_hash, random_token, token_hash, verify_password};
@@ -102,6 +105,8 @@ struct LoginForm {
 /// minute: at most about 60 guesses an hour, and the real user is back in within a minute.
 const FREE_FAILURES: i64 = 3;
 const MAX_WAIT_S: i64 = 60;
+/// Longer names are cut here before anything is looked up (account names are far shorter).
+const MAX_NAME_CHARS: usize = 200;
 
 fn wait_after_failures_s(failures: i64) -> i64 {
     if failures < FREE_FAILURES {
@@ -111,12 +116,43 @@ fn wait_after_failures_s(failures: i64) -> i64 {
     }
 }
 
+/// Where a sign-in comes from, as the throttle counts it: the peer's address (the proxy's
+/// `X-Forwarded-For` when the server is configured to trust it), IPv6 by its /64 network, since
+/// one host holds a whole /64.
+fn source_address(
+    headers: &axum::http::HeaderMap,
+    peer: Option<std::net::SocketAddr>,
+    trust_forwarded: bool,
+) -> String {
+    let forwarded = headers
+        .get("x-forwarded-for")
+        .and_then(|v| v.to_str().ok())
+        .and_then(|v| v.rsplit(',').next())
+        .and_then(|v| v.trim().parse::<IpAddr>().ok())
+        .filter(|_| trust_forwarded);
+    match forwarded.or(peer.map(|p| p.ip())) {
+        Some(IpAddr::V6(ip)) if ip.to_ipv4_mapped().is_none() => {
+            let s = ip.segments();
+            format!("{:x}:{:x}:{:x}:{:x}::/64", s[0], s[1], s[2], s[3])
+        }
+        Some(IpAddr::V6(ip)) => ip.to_ipv4_mapped().expect("checked above").to_string(),
+        Some(ip) => ip.to_string(),
+        None => "unknown".to_string(),
+    }
+}
+
 async fn login(
     State(state): State<AppState>,
+    peer: Option<Extension<ConnectInfo<SocketAddr>>>,
     headers: axum::http::HeaderMap,
     Form(form): Form<LoginForm>,
 ) -> Result<Response> {
-    let name = form.name.trim().to_string();
+    let source = source_address(
+        &headers,
+        peer.map(|Extension(ConnectInfo(address))| address),
+        state.config.trust_forwarded,
+    );
+    let name: String = form.name.trim().chars().take(MAX_NAME_CHARS).collect();
     let next = safe_next(form.next.as_deref());
     let again = |error: &str| {
         let page = LoginPage {
@@ -133,11 +169,11 @@ async fn login(
     // at once cannot all pass the wait.
     if let Some(wait) = state
         .store
-        .claim_login_attempt(&name, wait_after_failures_s)
+        .claim_login_attempt(&name, &source, wait_after_failures_s)
         .await?
     {
         return Ok(again(&format!(
-            "Too many failed sign-ins for this name. Wait {wait} s and try again."
+            "Too many failed sign-ins. Wait {wait} s and try again."
         )));
     }
     let user = state.store.user_by_name(&name).await?;
@@ -152,7 +188,7 @@ async fn login(
         (Some(user), true) => user,
         _ => return Ok(again("That name and password do not match an account.")),
     };
-    state.store.clear_login_failures(&name).await?;
+    state.store.clear_login_failures(&name, &source).await?;
     // A fresh session id on every sign-in: an id planted before sign-in is worth nothing.
     if let Some(old) = cookie(&headers, SESSION_COOKIE) {
         state.store.delete_session(&token_hash(&old)).await?;

@@ -13,7 +13,10 @@ const THUMBNAIL_JPEG_QUALITY: u8 = 80;
 /// Pictures larger than this (a side, or the memory to decode them) are kept without a
 /// thumbnail rather than decoded: a small file can unpack to gigabytes of pixels.
 const DECODE_MAX_SIDE_PX: u32 = 16_384;
-const DECODE_MAX_ALLOC_BYTES: u64 = 256 * 1024 * 1024;
+/// Pixels decoded at most, checked from the header before any pixel is unpacked: a 12 MP phone
+/// photo decodes (about 36 MB of RGB), a 9,000 x 9,000 PNG of a few hundred KB does not.
+const DECODE_MAX_PIXELS: u64 = 24_000_000;
+const DECODE_MAX_ALLOC_BYTES: u64 = 96 * 1024 * 1024;
 
 /// The picture formats a run accepts. SVG is not among them: it can carry script.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -124,6 +127,13 @@ pub fn examine(bytes: &[u8]) -> Result<Examined, Refusal> {
     };
     if width == 0 || height == 0 {
         return Err(Refusal::Damaged);
+    }
+    if u64::from(width) * u64::from(height) > DECODE_MAX_PIXELS {
+        return Ok(Examined {
+            image_type,
+            size_px: Some(size_px),
+            thumbnail: None,
+        });
     }
     let mut picture = match DynamicImage::from_decoder(decoder) {
         Ok(picture) => picture,
@@ -276,6 +286,20 @@ mod tests {
         ] {
             assert_eq!(ImageType::sniff(refused), None);
         }
+    }
+
+    #[test]
+    fn a_small_file_of_too_many_pixels_is_kept_without_being_decoded() {
+        // 5,000 x 5,000 grey pixels: 25 MP, over the limit, yet a PNG of about 130 KB.
+        let picture = image::GrayImage::new(5_000, 5_000);
+        let mut png = Vec::new();
+        picture
+            .write_to(&mut Cursor::new(&mut png), ImageFormat::Png)
+            .unwrap();
+        assert!(png.len() < 200_000, "{} bytes", png.len());
+        let examined = examine(&png).unwrap();
+        assert_eq!(examined.size_px, Some((5_000, 5_000)));
+        assert!(examined.thumbnail.is_none());
     }
 
     #[test]

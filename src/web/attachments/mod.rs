@@ -25,6 +25,9 @@ use crate::web::view::date_time;
 use crate::web::{AppError, AppState, Result};
 use media::{ImageType, Refusal, THUMBNAIL_PX};
 
+/// Pictures decoded at the same time (for thumbnails); others wait their turn.
+static DECODES: tokio::sync::Semaphore = tokio::sync::Semaphore::const_new(2);
+
 pub fn router() -> Routes {
     Routes::new()
         .post_with(
@@ -212,12 +215,18 @@ async fn upload(
         Some(kind) if received.errors.is_empty() => kind,
         _ => return Ok(refused(status, user, build, run, received)),
     };
+    // Bounded decodes at once: each may take up to the decoder's memory limit.
+    let decoding = DECODES
+        .acquire()
+        .await
+        .map_err(|e| AppError::Internal(e.into()))?;
     let (bytes, examined) = tokio::task::spawn_blocking(move || {
         let examined = media::examine(&bytes);
         (bytes, examined)
     })
     .await
     .map_err(|e| AppError::Internal(e.into()))?;
+    drop(decoding);
     let examined = match examined {
         Ok(examined) => examined,
         Err(refusal) => {
@@ -508,7 +517,7 @@ fn picture_headers(
     );
     headers.insert(
         header::CACHE_CONTROL,
-        HeaderValue::from_static("private, max-age=86400"),
+        HeaderValue::from_static("private, no-store"),
     );
     headers.insert(
         header::ETAG,

@@ -8,6 +8,7 @@ use askama::Template;
 use askama_web::WebTemplate;
 use axum::Form;
 use axum::extract::{Path, State};
+use axum::http::HeaderMap;
 use axum::response::{IntoResponse, Redirect, Response};
 use serde::Deserialize;
 
@@ -17,13 +18,14 @@ use crate::web::accounts::session::{CurrentUser, Editor};
 use crate::web::builds::view::{BuildHealth, build_charts, build_health};
 use crate::web::chrome::Chrome;
 use crate::web::forms::FieldErrors;
+use crate::web::page_cache::page_key;
 use crate::web::reader::Reader;
 use crate::web::routes::{Access, Routes};
 use crate::web::runs::digests::digests_of;
 use crate::web::runs::view::ChartView;
 use crate::web::shares::{ShareLine, share_lines};
 use crate::web::view::{RunLine, date_time};
-use crate::web::{AppState, Result};
+use crate::web::{AppError, AppState, Result};
 
 pub fn router() -> Routes {
     Routes::new()
@@ -180,12 +182,36 @@ pub fn parts_summary(revision: &Revision) -> String {
     bits.join(", ")
 }
 
+/// The build page, from the page cache while the build is unchanged (ETag / 304).
 async fn show(
     State(state): State<AppState>,
     reader: Reader,
     Path(slug): Path<String>,
-) -> Result<ShowPage> {
+    headers: HeaderMap,
+) -> Result<Response> {
     let build = reader.build(&state, &slug).await?;
+    let validator = state.store.build_validator(build.id).await?;
+    let viewer = match &reader {
+        Reader::User(user) => format!(
+            "user {} {} {}",
+            user.user_id,
+            user.role.as_str(),
+            user.csrf_token
+        ),
+        Reader::Share { token, .. } => format!("share {token}"),
+    };
+    let key = page_key(&format!("build {}", build.id), &viewer);
+    if let Some(response) = state.pages.answer(&key, &validator, &headers) {
+        return Ok(response);
+    }
+    let html = render_show(&state, &reader, build)
+        .await?
+        .render()
+        .map_err(|e| AppError::Internal(e.into()))?;
+    Ok(state.pages.keep(key, validator, html, &headers))
+}
+
+async fn render_show(state: &AppState, reader: &Reader, build: Build) -> Result<ShowPage> {
     let mut revisions = state.store.revisions_of_build(build.id).await?;
     let mut all_runs = state.store.runs_of_build(build.id, i64::MAX).await?;
     // A link to one revision shows that revision and its runs only.

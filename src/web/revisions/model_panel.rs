@@ -46,6 +46,7 @@ pub struct ModelPanel {
 }
 
 /// A flag as a page shows it.
+#[derive(Clone)]
 pub struct FlagView {
     /// The rule, for tests' selectors only (`data-code`); never shown.
     pub code: &'static str,

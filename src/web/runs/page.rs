@@ -2,6 +2,7 @@
 //! the latest readings (older ones a page at a time) and the analysis.
 
 use std::collections::HashMap;
+use std::sync::Arc;
 
 use askama::Template;
 use askama_web::WebTemplate;
@@ -9,14 +10,15 @@ use axum::extract::{Path, Query, State};
 use serde::Deserialize;
 
 use crate::analysis::entry_order::entry_order;
+use crate::analysis::live::{LiveMargin, live_margins, margin_at};
 use crate::analysis::reading_set::FieldError;
 use crate::channel::Channel;
-use crate::store::{Build, EventMark, Outcome, ReadingRow, Run, now_unix_s};
+use crate::store::{Build, EventMark, Outcome, ReadingRow, Revision, Run, now_unix_s};
 use crate::units::Unit;
 use crate::web::chrome::Chrome;
 use crate::web::reader::Reader;
 use crate::web::runs::analysis::{analyse_stored_run, analysis_readings};
-use crate::web::runs::view::AnalysisView;
+use crate::web::runs::view::{AnalysisView, live_row};
 use crate::web::view::{date_time, load_title, maybe, minutes_seconds};
 use crate::web::{AppState, Result};
 
@@ -25,7 +27,7 @@ use crate::analysis::reading_set::{entry_unit, unit_for};
 use super::lookup::{channels_of, reader_build_and_run};
 
 /// Readings in one page of the table, newest first.
-pub(super) const READINGS_PER_PAGE: i64 = 40;
+pub(super) const READINGS_PER_PAGE: i64 = 25;
 
 #[derive(Template, WebTemplate)]
 #[template(path = "runs/show.html")]
@@ -172,24 +174,19 @@ pub(super) async fn render(
     page: Option<i64>,
 ) -> Result<ShowPage> {
     let revision = state.store.revision_by_id(run.revision_id).await?;
-    let analysis_readings = analysis_readings(&state.store, run.id).await?;
-    let analysed = analyse_stored_run(&state.store, &run, &revision, &analysis_readings).await?;
     let marks = state.store.event_marks(run.id).await?;
     let live_marks: Vec<&EventMark> = marks.iter().filter(|m| !m.is_voided()).collect();
-    let open_at_s = run
-        .is_open()
-        .then(|| (now_unix_s() - run.started_at) as f64);
-    let chart_marks: Vec<(f64, String)> =
-        live_marks.iter().map(|m| (m.t_s, m.text.clone())).collect();
-    let analysis = AnalysisView::build(
-        run.id.0,
-        &revision.parts,
-        &analysed,
-        &analysis_readings,
-        open_at_s,
-        &chart_marks,
-    );
-    let reading_count = analysis_readings.len() as i64;
+    let now_s = (now_unix_s() - run.started_at) as f64;
+    let memo = derived(state, &run, &revision, &marks).await?;
+    let mut analysis = memo.analysis.clone();
+    if run.is_open() {
+        analysis.live = memo
+            .margins
+            .iter()
+            .map(|m| live_row(&margin_at(m, memo.margins_at_s, now_s)))
+            .collect();
+    }
+    let reading_count = memo.reading_count;
     let pages = ((reading_count + READINGS_PER_PAGE - 1) / READINGS_PER_PAGE).max(1);
     let page = page.unwrap_or(1).clamp(1, pages);
     let rows = state
@@ -198,7 +195,7 @@ pub(super) async fn render(
         .await?;
     let lines = table_lines(state, &rows, &live_marks, page == 1).await?;
     let last_reading_id = state.store.last_reading_id(run.id).await?;
-    let entry = entry_form(state, &run, &revision, &analysis_readings, submitted).await?;
+    let entry = entry_form(state, &run, &revision, &memo.last_values, submitted).await?;
     let failed_part_choices = channels_of(&revision.parts)
         .into_iter()
         .filter_map(|c| match c {
@@ -258,6 +255,78 @@ pub(super) async fn render(
         build,
         run,
     })
+}
+
+/// What the page derives from all of a run's readings, kept (in `RunFeeds`' memo) until the
+/// run changes: the analysis and its charts, the fits behind the live margins, the latest
+/// value of each channel. A view between readings then reads one page of the table only.
+struct DerivedFromReadings {
+    /// The run's `reading_count` and marks when this was made (a change not announced through
+    /// `RunFeeds`, an import say, still shows).
+    reading_count_key: i64,
+    marks_key: Vec<(i64, bool)>,
+    analysis: AnalysisView,
+    margins: Vec<LiveMargin>,
+    margins_at_s: f64,
+    reading_count: i64,
+    last_values: Vec<(Channel, f64)>,
+}
+
+async fn derived(
+    state: &AppState,
+    run: &Run,
+    revision: &Revision,
+    marks: &[EventMark],
+) -> Result<Arc<DerivedFromReadings>> {
+    let marks_key: Vec<(i64, bool)> = marks.iter().map(|m| (m.id, m.is_voided())).collect();
+    if let Some(memo) = state.run_feeds.memo::<DerivedFromReadings>(run.id)
+        && memo.reading_count_key == run.reading_count
+        && memo.marks_key == marks_key
+    {
+        return Ok(memo);
+    }
+    let readings = analysis_readings(&state.store, run.id).await?;
+    let analysed = analyse_stored_run(&state.store, run, revision, &readings).await?;
+    let chart_marks: Vec<(f64, String)> = marks
+        .iter()
+        .filter(|m| !m.is_voided())
+        .map(|m| (m.t_s, m.text.clone()))
+        .collect();
+    let analysis = AnalysisView::build(
+        run.id.0,
+        &revision.parts,
+        &analysed,
+        &readings,
+        None,
+        &chart_marks,
+    );
+    let margins_at_s = (now_unix_s() - run.started_at) as f64;
+    let margins = if run.is_open() {
+        let setting = analysed
+            .operating_point
+            .as_ref()
+            .map(|op| op.supply_voltage_v);
+        live_margins(&revision.parts, &readings, setting, margins_at_s)
+    } else {
+        Vec::new()
+    };
+    let mut last_values: Vec<(Channel, f64)> = Vec::new();
+    for r in readings.iter().rev() {
+        if !last_values.iter().any(|(c, _)| *c == r.channel) {
+            last_values.push((r.channel, r.value));
+        }
+    }
+    let memo = Arc::new(DerivedFromReadings {
+        reading_count_key: run.reading_count,
+        marks_key,
+        analysis,
+        margins,
+        margins_at_s,
+        reading_count: readings.len() as i64,
+        last_values,
+    });
+    state.run_feeds.keep_memo(run.id, memo.clone());
+    Ok(memo)
 }
 
 /// The rows of one page of the table, with the marks that fall in its span of time (the
@@ -320,7 +389,7 @@ async fn entry_form(
     state: &AppState,
     run: &Run,
     revision: &crate::store::Revision,
-    readings: &[crate::analysis::reading::Reading],
+    last_values: &[(Channel, f64)],
     submitted: Submitted,
 ) -> Result<EntryForm> {
     let in_use: Vec<Channel> = run
@@ -345,11 +414,10 @@ async fn entry_form(
             EntryField {
                 title: channel.title(),
                 unit: entry_unit(channel),
-                last: readings
+                last: last_values
                     .iter()
-                    .rev()
-                    .find(|r| r.channel == channel)
-                    .map(|r| format_reading(&name, r.value))
+                    .find(|(c, _)| *c == channel)
+                    .map(|(_, value)| format_reading(&name, *value))
                     .unwrap_or_default(),
                 typed: submitted.values.get(&name).cloned().unwrap_or_default(),
                 error: error_of(&name),

@@ -19,6 +19,7 @@ use crate::units::{Unit, eng, eng_precise};
 use crate::web::revisions::model_panel::FlagView;
 use crate::web::view::{maybe, minutes_seconds};
 
+#[derive(Clone)]
 pub struct ThermalRow {
     pub channel: String,
     pub title: String,
@@ -34,7 +35,7 @@ pub struct ThermalRow {
     pub standing: &'static str,
 }
 
-#[derive(serde::Serialize)]
+#[derive(Clone, serde::Serialize)]
 pub struct LiveRow {
     pub title: String,
     pub now: String,
@@ -47,6 +48,7 @@ pub struct LiveRow {
 }
 
 /// A chart and the numbers behind it.
+#[derive(Clone)]
 pub struct ChartView {
     pub id: String,
     pub title: String,
@@ -54,6 +56,7 @@ pub struct ChartView {
     pub table: Vec<(String, Vec<(String, String)>)>,
 }
 
+#[derive(Clone)]
 pub struct AnalysisView {
     pub operating: Vec<(String, String)>,
     pub efficiency: Vec<(&'static str, String, &'static str)>,
@@ -174,7 +177,7 @@ const MARKERS: [Marker; 6] = [
 
 /// Buckets a chart's series is thinned to (min/max per bucket): about as many as a phone has
 /// pixels across its plot, so the page stays small however long the run.
-const CHART_BUCKETS: usize = 150;
+const CHART_BUCKETS: usize = 50;
 
 /// A channel's readings as a chart draws them: every extreme kept, the count bounded.
 fn chart_points(readings: &[Reading], channel: Channel) -> Vec<(f64, f64)> {
