@@ -474,7 +474,10 @@ async fn the_event_stream_catches_up_from_the_last_reading_seen() {
         "only what came after {first_id}: {update}"
     );
     assert_eq!(readings[0]["time"], "0:20");
-    assert_eq!(readings[0]["value"], "32\u{a0}°C", "the number keeps its unit");
+    assert_eq!(
+        readings[0]["value"], "32\u{a0}°C",
+        "the number keeps its unit"
+    );
     assert_eq!(update["open"], true);
     assert_eq!(update["reading_count"], 2);
     assert!(

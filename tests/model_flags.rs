@@ -459,3 +459,12 @@ fn flags_are_sorted_worst_first_and_serialize_by_role_key() {
     assert!(json["switch_junction_temp_c"].is_number());
     assert!(json["choke_reactance_ohm"].is_null());
 }
+
+#[test]
+fn every_rule_has_a_practitioners_title() {
+    use eddybench::analysis::flags::{RULE_CODES, flag_title};
+    for code in RULE_CODES {
+        assert_ne!(flag_title(code), "Finding", "{code} has no title");
+    }
+    assert_eq!(flag_title("no-such-rule"), "Finding");
+}

@@ -31,6 +31,30 @@ pub struct Flag {
     pub source: &'static str,
 }
 
+/// Every rule that raises a flag. Rule names stay in the JSON and the logs; pages show titles.
+pub const RULE_CODES: [&str; 20] = [
+    "cap-overtemp",
+    "cap-self-heating",
+    "cap-current",
+    "cap-voltage",
+    "cap-drift",
+    "cap-limit-assumed",
+    "switch-voltage",
+    "switch-overtemp",
+    "switch-tempco-missing",
+    "gate-overvoltage",
+    "gate-resistor-power",
+    "choke-saturation",
+    "choke-ratio",
+    "coil-proximity",
+    "loss-exceeds-input",
+    "supply-limit",
+    "no-oscillation",
+    "part-overtemp",
+    "time-to-limit",
+    "part-degrading",
+];
+
 /// The title a practitioner would give a finding, by its rule. Pages show this, never the rule.
 pub fn flag_title(code: &str) -> &'static str {
     match code {
