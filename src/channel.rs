@@ -88,6 +88,35 @@ impl Channel {
         }
     }
 
+    /// Why `value` (SI) is refused on this channel, in the channel's unit and in a sentence
+    /// short enough for a phone; `None` when it is plausible.
+    pub fn range_error(self, value: f64) -> Option<String> {
+        let (low, high) = self.plausible_range();
+        if (low..=high).contains(&value) {
+            return None;
+        }
+        let unit = match self.quantity() {
+            Quantity::Voltage => crate::units::Unit::Volt,
+            Quantity::Current => crate::units::Unit::Ampere,
+            Quantity::Frequency => crate::units::Unit::Hertz,
+            Quantity::Temperature => crate::units::Unit::Celsius,
+        };
+        let shown = |v: f64| {
+            if v.is_finite() && v.abs() < 1e12 {
+                crate::units::eng(v, unit).to_string()
+            } else {
+                format!("{}\u{a0}{}", crate::units::short_number(v), unit.symbol())
+            }
+        };
+        Some(format!(
+            "{} is outside what a {} reading can be ({} to {})",
+            shown(value),
+            self.title().to_lowercase(),
+            shown(low),
+            shown(high)
+        ))
+    }
+
     /// Plausible bounds of a value on this channel, to refuse typos such as a frequency in kHz
     /// typed as Hz or a temperature of 4000 °C. Wide on purpose: they catch slips, not physics.
     pub fn plausible_range(self) -> (f64, f64) {
@@ -154,6 +183,20 @@ impl FromStr for Channel {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_refused_value_reads_short_in_the_users_unit() {
+        let huge = Channel::SupplyVoltage.range_error(1e300).unwrap();
+        assert_eq!(
+            huge,
+            "1e300\u{a0}V is outside what a supply voltage reading can be (0\u{a0}V to 10\u{a0}kV)"
+        );
+        assert!(Channel::Frequency.range_error(152e3).is_none());
+        assert_eq!(
+            Channel::Frequency.range_error(-5.0).unwrap(),
+            "-5\u{a0}Hz is outside what a frequency reading can be (0\u{a0}Hz to 100\u{a0}MHz)"
+        );
+    }
 
     #[test]
     fn names_round_trip() {

@@ -12,9 +12,9 @@ use std::fmt;
 pub enum UnitError {
     #[error("enter a value")]
     Empty,
-    #[error("`{0}` is not a number")]
+    #[error("“{0}” is not a number")]
     NotANumber(String),
-    #[error("`{got}` is not a unit of this field (expected {expected})")]
+    #[error("“{got}” is not a unit of this field (expected {expected})")]
     WrongUnit { got: String, expected: &'static str },
 }
 
@@ -110,13 +110,13 @@ pub fn parse_value(input: &str, unit: Unit) -> Result<f64, UnitError> {
     let number: f64 = number_text
         .replace(',', ".")
         .parse()
-        .map_err(|_| UnitError::NotANumber(text.to_string()))?;
+        .map_err(|_| UnitError::NotANumber(quoted(text, 20)))?;
     if !number.is_finite() {
-        return Err(UnitError::NotANumber(text.to_string()));
+        return Err(UnitError::NotANumber(quoted(text, 20)));
     }
     let suffix = rest.trim();
     let scale = suffix_scale(suffix, unit).ok_or_else(|| UnitError::WrongUnit {
-        got: suffix.to_string(),
+        got: quoted(suffix, 20),
         expected: expected_text(unit),
     })?;
     Ok(number * scale)
@@ -181,23 +181,47 @@ fn suffix_scale(suffix: &str, unit: Unit) -> Option<f64> {
 pub struct Engineering {
     pub value: f64,
     pub unit: Unit,
+    /// Significant figures: 3 for most quantities, 4 where a drift of tenths of a percent
+    /// matters (frequency, inferred capacitance).
+    pub figures: u8,
 }
 
-/// Shorthand for `Engineering { value, unit }`.
+/// Shorthand for `Engineering { value, unit }` with three significant figures.
 pub fn eng(value: f64, unit: Unit) -> Engineering {
-    Engineering { value, unit }
+    Engineering {
+        value,
+        unit,
+        figures: 3,
+    }
+}
+
+/// A value as a person types it back into a field or a terminal: the page's no-break space
+/// becomes a plain one.
+pub fn eng_typed(value: f64, unit: Unit) -> String {
+    eng(value, unit).to_string().replace('\u{a0}', " ")
+}
+
+/// Four significant figures: 125.5 kHz and 125.9 kHz stay apart, as the capacitance inferred
+/// from them must.
+pub fn eng_precise(value: f64, unit: Unit) -> Engineering {
+    Engineering {
+        value,
+        unit,
+        figures: 4,
+    }
 }
 
 impl fmt::Display for Engineering {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         let value = self.value;
         let symbol = self.unit.symbol();
-        let space = if symbol.is_empty() { "" } else { " " };
+        // A no-break space: on a narrow screen a number never wraps away from its unit.
+        let space = if symbol.is_empty() { "" } else { "\u{a0}" };
         if !value.is_finite() {
             return write!(f, "{value}{space}{symbol}");
         }
         if !self.unit.takes_prefix() || value == 0.0 {
-            return write!(f, "{}{space}{symbol}", three_significant(value));
+            return write!(f, "{}{space}{symbol}", significant(value, self.figures));
         }
         let exponent = (value.abs().log10() / 3.0).floor() as i32 * 3;
         let exponent = exponent.clamp(-12, 9);
@@ -213,14 +237,18 @@ impl fmt::Display for Engineering {
         };
         let scaled = value / 10f64.powi(exponent);
         // Rounding 999.7 to three figures gives 1000: step up a prefix instead.
-        if three_significant(scaled) == "1000" && exponent < 9 {
-            return write!(f, "{}", eng_at(value, exponent + 3, symbol));
+        if significant(scaled, self.figures) == "1000" && exponent < 9 {
+            return write!(f, "{}", eng_at(value, exponent + 3, symbol, self.figures));
         }
-        write!(f, "{} {prefix}{symbol}", three_significant(scaled))
+        write!(
+            f,
+            "{}\u{a0}{prefix}{symbol}",
+            significant(scaled, self.figures)
+        )
     }
 }
 
-fn eng_at(value: f64, exponent: i32, symbol: &str) -> String {
+fn eng_at(value: f64, exponent: i32, symbol: &str, figures: u8) -> String {
     let prefix = match exponent {
         -9 => "n",
         -6 => "µ",
@@ -231,18 +259,62 @@ fn eng_at(value: f64, exponent: i32, symbol: &str) -> String {
         _ => "G",
     };
     format!(
-        "{} {prefix}{symbol}",
-        three_significant(value / 10f64.powi(exponent))
+        "{}\u{a0}{prefix}{symbol}",
+        significant(value / 10f64.powi(exponent), figures)
     )
+}
+
+/// A number as short as a person would write it back: four significant figures, and powers
+/// of ten beyond a million or below a thousandth (`1e300`, `2.5e-9`), never hundreds of digits.
+pub fn short_number(value: f64) -> String {
+    let magnitude = value.abs();
+    if !value.is_finite() || value == 0.0 || (1e-3..1e6).contains(&magnitude) {
+        return significant(value, 4);
+    }
+    let text = format!("{value:.3e}");
+    match text.split_once('e') {
+        Some((mantissa, exponent)) if mantissa.contains('.') => format!(
+            "{}e{exponent}",
+            mantissa.trim_end_matches('0').trim_end_matches('.')
+        ),
+        _ => text,
+    }
+}
+
+/// At most `max` characters of what someone typed, to quote it back in an error.
+pub fn quoted(text: &str, max: usize) -> String {
+    let text = text.trim();
+    if text.chars().count() <= max {
+        text.to_string()
+    } else {
+        format!("{}…", text.chars().take(max).collect::<String>())
+    }
+}
+
+/// A signed number with `decimals` places and a true minus sign (U+2212), as a page prints a
+/// change: +1.3, −0.2, 0.0.
+pub fn signed(value: f64, decimals: usize) -> String {
+    let text = format!("{:.decimals$}", value.abs());
+    let zero = text.chars().all(|c| c == '0' || c == '.');
+    match (zero, value < 0.0) {
+        (true, _) => text,
+        (false, true) => format!("−{text}"),
+        (false, false) => format!("+{text}"),
+    }
 }
 
 /// Three significant figures without trailing zeros: 470, 1.2, 0.0331, 12.5.
 pub fn three_significant(value: f64) -> String {
+    significant(value, 3)
+}
+
+/// `figures` significant figures without trailing zeros.
+pub fn significant(value: f64, figures: u8) -> String {
     if value == 0.0 {
         return "0".into();
     }
     let magnitude = value.abs().log10().floor() as i32;
-    let decimals = (2 - magnitude).max(0) as usize;
+    let decimals = (i32::from(figures) - 1 - magnitude).max(0) as usize;
     let text = format!("{value:.decimals$}");
     if text.contains('.') {
         text.trim_end_matches('0').trim_end_matches('.').to_string()
@@ -318,15 +390,37 @@ mod tests {
 
     #[test]
     fn formats_engineering_notation() {
-        assert_eq!(eng(470e-9, Unit::Farad).to_string(), "470 nF");
-        assert_eq!(eng(1.2e-6, Unit::Henry).to_string(), "1.2 µH");
-        assert_eq!(eng(8e-3, Unit::Ohm).to_string(), "8 mΩ");
-        assert_eq!(eng(16.0, Unit::Ampere).to_string(), "16 A");
-        assert_eq!(eng(159_154.9, Unit::Hertz).to_string(), "159 kHz");
-        assert_eq!(eng(0.9997e-6, Unit::Farad).to_string(), "1 µF");
-        assert_eq!(eng(85.0, Unit::Celsius).to_string(), "85 °C");
-        assert_eq!(eng(0.0, Unit::Volt).to_string(), "0 V");
-        assert_eq!(eng(-2.5e-3, Unit::Ampere).to_string(), "-2.5 mA");
+        assert_eq!(eng(470e-9, Unit::Farad).to_string(), "470\u{a0}nF");
+        assert_eq!(eng(1.2e-6, Unit::Henry).to_string(), "1.2\u{a0}µH");
+        assert_eq!(eng(8e-3, Unit::Ohm).to_string(), "8\u{a0}mΩ");
+        assert_eq!(eng(16.0, Unit::Ampere).to_string(), "16\u{a0}A");
+        assert_eq!(eng(159_154.9, Unit::Hertz).to_string(), "159\u{a0}kHz");
+        assert_eq!(short_number(1e300), "1e300");
+        assert_eq!(short_number(-2.5e-9), "-2.5e-9");
+        assert_eq!(short_number(10_000.0), "10000");
+        assert_eq!(short_number(0.0125), "0.0125");
+        assert_eq!(quoted(&"9".repeat(300), 12), format!("{}…", "9".repeat(12)));
+        assert_eq!(signed(-1.34, 1), "−1.3");
+        assert_eq!(signed(0.04, 1), "0.0");
+        assert_eq!(signed(2.0, 2), "+2.00");
+        // Four figures keep a drift of a tenth of a percent visible.
+        assert_eq!(
+            eng_precise(125_549.0, Unit::Hertz).to_string(),
+            "125.5\u{a0}kHz"
+        );
+        assert_eq!(
+            eng_precise(125_949.0, Unit::Hertz).to_string(),
+            "125.9\u{a0}kHz"
+        );
+        assert_eq!(
+            eng_precise(330.5e-9, Unit::Farad).to_string(),
+            "330.5\u{a0}nF"
+        );
+        assert_eq!(eng_precise(999.97e3, Unit::Hertz).to_string(), "1\u{a0}MHz");
+        assert_eq!(eng(0.9997e-6, Unit::Farad).to_string(), "1\u{a0}µF");
+        assert_eq!(eng(85.0, Unit::Celsius).to_string(), "85\u{a0}°C");
+        assert_eq!(eng(0.0, Unit::Volt).to_string(), "0\u{a0}V");
+        assert_eq!(eng(-2.5e-3, Unit::Ampere).to_string(), "-2.5\u{a0}mA");
     }
 }
 
@@ -336,7 +430,7 @@ pub fn parse_elapsed_s(input: &str) -> Result<f64, UnitError> {
     if text.is_empty() {
         return Err(UnitError::Empty);
     }
-    let not_time = || UnitError::NotANumber(text.to_string());
+    let not_time = || UnitError::NotANumber(quoted(text, 20));
     let seconds = if text.contains(':') {
         let fields: Vec<&str> = text.split(':').collect();
         if fields.len() > 3 || fields.iter().any(|f| f.trim().is_empty()) {

@@ -446,7 +446,7 @@ async fn json_readings_are_checked_row_by_row() {
         (
             json!({"t_s": 2, "channel": "temp.switch", "value": 4000}),
             "value",
-            "plausible range",
+            "4000\u{a0}°C is outside what a switch temperature reading can be",
         ),
         (
             json!({"t_s": 2, "channel": "temp.choke", "value": 40}),

@@ -474,7 +474,10 @@ async fn the_event_stream_catches_up_from_the_last_reading_seen() {
         "only what came after {first_id}: {update}"
     );
     assert_eq!(readings[0]["time"], "0:20");
-    assert_eq!(readings[0]["value"], "32 °C");
+    assert_eq!(
+        readings[0]["value"], "32\u{a0}°C",
+        "the number keeps its unit"
+    );
     assert_eq!(update["open"], true);
     assert_eq!(update["reading_count"], 2);
     assert!(
@@ -536,7 +539,7 @@ async fn a_reading_from_the_api_reaches_the_live_stream_within_a_second() {
         .await;
     assert_eq!(sent.status, StatusCode::CREATED);
     let update = next_event().await;
-    assert_eq!(update["readings"][0]["value"], "47.5 °C");
+    assert_eq!(update["readings"][0]["value"], "47.5\u{a0}°C");
     assert_eq!(update["readings"][0]["time"], "0:42");
     assert!(
         !update["live"].as_array().unwrap().is_empty(),

@@ -110,16 +110,18 @@ async fn the_history_lists_changes_and_cannot_be_rewritten() {
     let page = app.get("/builds/audit-rig", Some(&session)).await;
     let history = page.select_texts("#history li").join("\n");
     assert!(
-        history.contains("Demo editor: build created Audit rig"),
+        history.contains("Build “Audit rig” created by Demo editor."),
         "{history}"
     );
     let demo = app.get("/builds/tool-room-heater", Some(&session)).await;
     let history = demo.select_texts("#history li").join("\n");
     assert!(
-        history.contains("revision created r4 copied from r3"),
+        history.contains("Revision r4 created by") && history.contains(", copied from r3."),
         "{history}"
     );
-    assert!(history.contains("run finished"), "{history}");
+    assert!(history.contains(" finished by "), "{history}");
+    // A logbook, not a log: no raw load or outcome codes.
+    assert!(!history.contains('_'), "{history}");
     // A second connection to the same file, as a tool that opened the database would.
     let url = format!("sqlite://{}", app.data_dir().join("eddybench.db").display());
     let pool = sqlx::SqlitePool::connect(&url).await.unwrap();

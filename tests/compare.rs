@@ -63,7 +63,7 @@ fn the_diff_shows_changed_fields_old_to_new_in_engineering_notation() {
     assert_eq!(count.values(), "4 → 6");
     let chokes = row(&rows, "Choke · Inductance");
     assert_eq!(chokes.change, Change::Changed);
-    assert_eq!(chokes.values(), "47 µH → 100 µH");
+    assert_eq!(chokes.values(), "47\u{a0}µH → 100\u{a0}µH");
     assert_eq!(chokes.class(), "changed");
     assert_eq!(
         row(&rows, "Tank capacitor · Capacitance of one unit").change,
@@ -78,16 +78,19 @@ fn the_diff_shows_parts_added_and_removed() {
     let clamp = row(&rows, "Gate clamp");
     assert_eq!(clamp.change, Change::Added);
     assert_eq!(clamp.role, Role::GateClamp);
-    assert_eq!(clamp.values(), "Label 12 V zener; Zener voltage 12 V");
+    assert_eq!(clamp.values(), "Label 12 V zener; Zener voltage 12\u{a0}V");
     let switch = row(&rows, "Switch");
     assert_eq!(switch.change, Change::Removed);
-    assert_eq!(switch.values(), "V_DS maximum 100 V");
+    assert_eq!(switch.values(), "V_DS maximum 100\u{a0}V");
     assert_eq!(row(&rows, "Other: heat sink").change, Change::Added);
     // Read the other way, what was added is removed.
     let back = diff_parts(&after(), &before());
     assert_eq!(row(&back, "Gate clamp").change, Change::Removed);
     assert_eq!(row(&back, "Switch").change, Change::Added);
-    assert_eq!(row(&back, "Choke · Inductance").values(), "100 µH → 47 µH");
+    assert_eq!(
+        row(&back, "Choke · Inductance").values(),
+        "100\u{a0}µH → 47\u{a0}µH"
+    );
 }
 
 #[test]
@@ -105,9 +108,9 @@ fn a_field_given_only_later_is_added_within_its_part() {
         ]
     );
     assert_eq!(step.changes[0].change, Change::Added);
-    assert_eq!(step.changes[0].values(), "— → 12 A");
+    assert_eq!(step.changes[0].values(), "— → 12\u{a0}A");
     assert_eq!(step.changes[1].change, Change::Removed);
-    assert_eq!(step.changes[1].values(), "100 V → —");
+    assert_eq!(step.changes[1].values(), "100\u{a0}V → —");
 }
 
 #[test]
@@ -199,12 +202,17 @@ async fn the_compare_page_reads_as_rows_and_marks_the_better_revision() {
         assert!(seen >= 5, "{section} has {seen} rows");
     }
 
-    // The polyester bank cooks; the polypropylene one runs cool: r2 is better on both counts.
+    // The polyester bank cooked on r1 and r2 runs cool, but r1's runs were idle at 17.9 V and
+    // r2's idle runs at 23.9 V: not comparable, and the page says why instead of "better".
     for key in ["t-max-tank_capacitor", "margin-tank_capacitor"] {
         let cells = row_cells(&page, "#measured-rows", key);
-        assert!(!cells[0].2 && cells[1].2, "{key}: {cells:?}");
-        assert!(cells[1].1.contains("✓ better"), "{cells:?}");
-        assert!(!cells[0].1.contains("better"), "{cells:?}");
+        assert!(cells[0].1.contains("baseline"), "{key}: {cells:?}");
+        assert!(!cells.iter().any(|c| c.2), "{key}: {cells:?}");
+        assert!(
+            cells[1].1.contains("not comparable with r1")
+                && cells[1].1.contains("17.9 V against 23.9 V"),
+            "{key}: {cells:?}"
+        );
     }
     // Neutral rows are never marked.
     let runs = row_cells(&page, "#measured-rows", "runs");
@@ -254,9 +262,26 @@ async fn the_picker_form_and_the_comma_list_give_the_same_page() {
         picked
             .attr("#parts-diff article.step", "data-from")
             .as_deref(),
-        Some("r4"),
-        "in the order given"
+        Some("r3"),
+        "older to newer, whatever the order picked"
     );
+    // The oldest is the baseline until another is chosen.
+    assert_eq!(
+        picked.select_texts(".baseline-picker strong"),
+        ["r3"],
+        "{:?}",
+        picked.select_texts(".baseline-picker")
+    );
+    let on_r4 = app
+        .get(
+            &format!("/builds/{SLUG}/compare?revs=r3,r4&base=r4"),
+            Some(&session),
+        )
+        .await;
+    assert_eq!(on_r4.select_texts(".baseline-picker strong"), ["r4"]);
+    let cells = row_cells(&on_r4, "#measured-rows", "t-max-tank_capacitor");
+    assert!(cells[1].1.contains("baseline"), "{cells:?}");
+    assert!(!cells[0].1.contains("baseline"), "{cells:?}");
     // r4 runs from 36 V: the common supply is the highest nominal one.
     assert!(picked.select_texts("#model h2")[0].contains("36 V"));
 

@@ -168,7 +168,7 @@ async fn the_command_line_prints_the_same_json_as_the_endpoint() {
     );
     assert!(
         text.lines()
-            .any(|l| l.starts_with("Resonant frequency") && l.ends_with("159 kHz")),
+            .any(|l| l.starts_with("Resonant frequency") && l.ends_with("159.2 kHz")),
         "{text}"
     );
     assert!(text.contains("proximity"));
@@ -233,8 +233,23 @@ async fn the_revision_panel_shows_the_same_numbers_and_takes_a_what_if() {
         .await;
     // The same numbers as the endpoint, formatted (REFERENCE.md §2 example).
     assert_eq!(value(&what_if, "tank_peak_voltage_v"), "75.4 V");
-    assert_eq!(value(&what_if, "resonant_frequency_hz"), "159 kHz");
+    assert_eq!(value(&what_if, "resonant_frequency_hz"), "159.2 kHz");
     assert_eq!(value(&what_if, "input_power_w"), "240 W");
+    // The what-if stays open with what was typed, and says which values the answer is for.
+    assert_eq!(what_if.count("#model details.what-if[open]"), 1);
+    assert_eq!(
+        what_if
+            .attr("input[name=supply_voltage_v]", "value")
+            .as_deref(),
+        Some("24 V")
+    );
+    assert!(
+        what_if.select_texts("#what-if-echo")[0]
+            .starts_with("What if: Supply voltage 24 V · Supply current 10."),
+        "{:?}",
+        what_if.select_texts("#what-if-echo")
+    );
+    assert_eq!(nominal.count("#what-if-echo"), 0);
     assert!(
         what_if
             .select_texts("#model .caveats li")

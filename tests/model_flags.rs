@@ -80,7 +80,11 @@ fn cap_overtemp_default_rating_says_so() {
         .find(|f| f.code == "cap-overtemp")
         .unwrap();
     assert!(flag.message.contains("usual rating"), "{}", flag.message);
-    assert!(flag.source.contains("§3"), "{}", flag.source);
+    assert!(
+        flag.source.contains("usually rated 85 °C"),
+        "{}",
+        flag.source
+    );
     assert_eq!(flag.part, Some(Role::TankCapacitor));
 }
 
@@ -212,7 +216,7 @@ fn cap_drift() {
     );
     let message = message_of(&parts, &measured(0.88), "cap-drift");
     assert!(
-        message.contains("12.0 % below the nominal 1.000 µF"),
+        message.contains("12.0\u{a0}% below the nominal 1\u{a0}µF"),
         "{message}"
     );
 }
@@ -454,4 +458,13 @@ fn flags_are_sorted_worst_first_and_serialize_by_role_key() {
     assert_eq!(json["flags"][0]["part"], "switch");
     assert!(json["switch_junction_temp_c"].is_number());
     assert!(json["choke_reactance_ohm"].is_null());
+}
+
+#[test]
+fn every_rule_has_a_practitioners_title() {
+    use eddybench::analysis::flags::{RULE_CODES, flag_title};
+    for code in RULE_CODES {
+        assert_ne!(flag_title(code), "Finding", "{code} has no title");
+    }
+    assert_eq!(flag_title("no-such-rule"), "Finding");
 }

@@ -154,7 +154,7 @@ fn the_first_bad_field_wins_and_the_message_reads_plainly() {
     assert_eq!(error.field, "parts.choke.inductance_h");
     assert_eq!(
         error.to_string(),
-        "parts.choke.inductance_h: must be greater than 0 H, got -1"
+        "parts.choke.inductance_h: must be greater than 0 H, not -1"
     );
 }
 

@@ -157,6 +157,15 @@ impl Demo {
         let url = created
             .attr("#share-url", "value")
             .expect("the created page shows the link");
+        // A copy button for script (hidden until the script shows it) beside a field that
+        // can be selected by hand without it.
+        assert_eq!(
+            created.count("button[data-copy=share-url][hidden]"),
+            1,
+            "{}",
+            created.body
+        );
+        assert_eq!(created.count("script[src='/static/copy.js']"), 1);
         let path = url
             .strip_prefix(ORIGIN)
             .unwrap_or_else(|| panic!("{url} is on this site"))
@@ -380,7 +389,7 @@ async fn the_build_page_makes_a_link_and_shows_it_only_once() {
     assert!(listed.json()[0].get("url").is_none());
     // The link is recorded (by whom and for whom), not its secret.
     let history = build_page.select_texts("#history li").join("\n");
-    assert!(history.contains("share created"), "{history}");
+    assert!(history.contains("made a read-only share link"), "{history}");
     assert!(!history.contains(&token));
 }
 
@@ -499,6 +508,12 @@ async fn a_revoked_link_is_dead_at_the_next_request() {
     let revoke = build_page
         .attr("#share-list form[method=post]", "action")
         .expect("a live link has a revoke button");
+    // The button asks first: it sits behind a question naming the link.
+    let question = build_page.select_texts("#share-list details.confirm-revoke form p");
+    assert!(
+        question[0].starts_with("Revoke the link for for a day?"),
+        "{question:?}"
+    );
     let done = demo.app.post_form(&revoke, &demo.editor, &[]).await;
     assert_eq!(done.status, StatusCode::SEE_OTHER);
     for path in [
@@ -510,6 +525,11 @@ async fn a_revoked_link_is_dead_at_the_next_request() {
         let page = demo.app.get(&path, None).await;
         assert_eq!(page.status, StatusCode::NOT_FOUND, "{path}");
         assert_eq!(header_of(&page, "referrer-policy"), "no-referrer");
+        let said = page.select_texts("p.message").join(" ");
+        assert!(
+            said.starts_with("This read-only link was revoked on "),
+            "{path}: {said}"
+        );
     }
     let listed = demo
         .build_page(&demo.editor)
@@ -529,10 +549,12 @@ async fn an_expired_link_opens_nothing_and_no_expiry_in_the_past_is_accepted() {
         .await;
     assert_eq!(demo.app.get(&live, None).await.status, StatusCode::OK);
     for path in [expired.clone(), format!("{expired}/report")] {
-        assert_eq!(
-            demo.app.get(&path, None).await.status,
-            StatusCode::NOT_FOUND,
-            "{path}"
+        let page = demo.app.get(&path, None).await;
+        assert_eq!(page.status, StatusCode::NOT_FOUND, "{path}");
+        let said = page.select_texts("p.message").join(" ");
+        assert!(
+            said.starts_with("This read-only link expired on "),
+            "{said}"
         );
     }
     let listed = demo

@@ -7,6 +7,7 @@ use super::limits::{self, Threshold};
 use super::model::{ModelReport, OperatingPoint};
 use crate::parts::{Parts, Role};
 use crate::physics::capacitor;
+use crate::units::{Unit, eng_precise};
 
 /// How bad a finding is. Ordered: `Note < Warning < Failure`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
@@ -28,6 +29,57 @@ pub struct Flag {
     pub message: String,
     /// Where the limit comes from.
     pub source: &'static str,
+}
+
+/// Every rule that raises a flag. Rule names stay in the JSON and the logs; pages show titles.
+pub const RULE_CODES: [&str; 20] = [
+    "cap-overtemp",
+    "cap-self-heating",
+    "cap-current",
+    "cap-voltage",
+    "cap-drift",
+    "cap-limit-assumed",
+    "switch-voltage",
+    "switch-overtemp",
+    "switch-tempco-missing",
+    "gate-overvoltage",
+    "gate-resistor-power",
+    "choke-saturation",
+    "choke-ratio",
+    "coil-proximity",
+    "loss-exceeds-input",
+    "supply-limit",
+    "no-oscillation",
+    "part-overtemp",
+    "time-to-limit",
+    "part-degrading",
+];
+
+/// The title a practitioner would give a finding, by its rule. Pages show this, never the rule.
+pub fn flag_title(code: &str) -> &'static str {
+    match code {
+        "cap-overtemp" => "Tank capacitor too hot",
+        "cap-self-heating" => "Tank capacitor heating itself",
+        "cap-current" => "Tank capacitor current near its rating",
+        "cap-voltage" => "Tank voltage near the capacitors' rating",
+        "cap-drift" => "Tank capacitance off nominal",
+        "cap-limit-assumed" => "Capacitor temperature rating assumed",
+        "switch-voltage" => "Switch voltage near its rating",
+        "switch-overtemp" => "Switch junction too hot",
+        "switch-tempco-missing" => "Switch resistance taken at 25 °C",
+        "gate-overvoltage" => "Gate voltage above its maximum",
+        "gate-resistor-power" => "Gate resistor near its power rating",
+        "choke-saturation" => "Choke close to saturation",
+        "choke-ratio" => "Choke small against the coil",
+        "coil-proximity" => "Coil loss underestimated",
+        "loss-exceeds-input" => "Losses exceed the input power",
+        "supply-limit" => "Supply in current limit",
+        "no-oscillation" => "No oscillation recorded",
+        "part-overtemp" => "Part over its temperature limit",
+        "time-to-limit" => "Heading for its temperature limit",
+        "part-degrading" => "Part wearing out",
+        _ => "Finding",
+    }
 }
 
 /// A limit and where it came from: the part's own rating, else the default threshold.
@@ -193,13 +245,17 @@ fn tank_capacitor(parts: &Parts, op: &OperatingPoint, report: &ModelReport, foun
         };
         if let Some((severity, source)) = severity {
             let direction = if drift < 0.0 { "below" } else { "above" };
+            // Four figures and tenths of a percent: the drift is the finding.
             let message = format!(
-                "Tank capacitance inferred from the measured {:.2} kHz is {:.3} µF, {:.1} % {direction} \
-                 the nominal {:.3} µF",
-                op.frequency_hz.unwrap_or(f64::NAN) / 1e3,
-                report.inferred_tank_capacitance_f.unwrap_or(f64::NAN) * 1e6,
+                "Tank capacitance inferred from the measured {} is {}, {:.1}\u{a0}% {direction} \
+                 the nominal {}",
+                eng_precise(op.frequency_hz.unwrap_or(f64::NAN), Unit::Hertz),
+                eng_precise(
+                    report.inferred_tank_capacitance_f.unwrap_or(f64::NAN),
+                    Unit::Farad
+                ),
                 100.0 * drift.abs(),
-                report.tank_capacitance_f.unwrap_or(f64::NAN) * 1e6,
+                eng_precise(report.tank_capacitance_f.unwrap_or(f64::NAN), Unit::Farad),
             );
             found.push(flag("cap-drift", severity, role, message, source));
         }
@@ -280,7 +336,7 @@ fn switch(parts: &Parts, op: &OperatingPoint, report: &ModelReport, found: &mut 
             Severity::Note,
             role,
             message,
-            "MOSFET power-loss application notes, from memory (REFERENCE.md §9)",
+            "A typical figure from MOSFET makers' power-loss application notes, not this part's",
         ));
     }
 }
@@ -396,7 +452,8 @@ fn model_notes(report: &ModelReport, found: &mut Vec<Flag>) {
             Severity::Note,
             Role::WorkCoil,
             message,
-            "Proximity effect in coils, from memory (REFERENCE.md §4)",
+            "A typical figure for close-wound coils; the isolated-conductor resistance follows \
+             Terman, Radio Engineers' Handbook, 1943",
         ));
     }
     if let Some((workpiece_w, input_w)) = report.workpiece_power_w.zip(report.input_power_w)
@@ -411,7 +468,7 @@ fn model_notes(report: &ModelReport, found: &mut Vec<Flag>) {
             severity: Severity::Note,
             part: None,
             message,
-            source: "energy balance",
+            source: "Energy balance: the losses cannot exceed the power put in",
         });
     }
 }

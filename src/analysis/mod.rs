@@ -1,6 +1,8 @@
 //! Pure analysis: the driver model of a revision at an operating point, its flags, each run's
 //! analysis (thermal fits, margins, efficiency) and a build's trends across runs. No I/O.
 
+/// Whether one set of runs did better than another, within uncertainty.
+pub mod comparison;
 /// Efficiency three ways: calorimetric, differential, model.
 pub mod efficiency;
 /// The order of the run page's entry fields.
@@ -37,6 +39,8 @@ pub mod run_summary;
 pub mod sent_entry;
 /// Medians, least-squares lines and per-channel samples.
 pub mod series;
+/// A least-squares slope with its 95 % range.
+pub mod slope_range;
 /// First-order thermal fit and time to a limit.
 pub mod thermal_fit;
 /// Margins and degradation across a build's runs.

@@ -226,8 +226,13 @@ impl QuantityRow {
     pub fn display(&self) -> String {
         match self.value {
             None => "—".to_string(),
-            Some(v) if self.percent => format!("{:.1} %", v * 100.0),
+            // Drift in tenths of a percent; the non-breaking space keeps "%" with its number.
+            Some(v) if self.percent => format!("{:.1}\u{a0}%", v * 100.0),
             Some(v) if self.unit == Unit::None => crate::units::three_significant(v),
+            // Frequency and capacitance keep four figures: the drift between runs is in them.
+            Some(v) if matches!(self.unit, Unit::Hertz | Unit::Farad) => {
+                crate::units::eng_precise(v, self.unit).to_string()
+            }
             Some(v) => crate::units::eng(v, self.unit).to_string(),
         }
     }

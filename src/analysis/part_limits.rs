@@ -27,13 +27,15 @@ impl LimitBasis {
         match self {
             LimitBasis::Rated => "the part's rated maximum",
             LimitBasis::AssumedCapacitorRating => {
-                "85 °C assumed: film capacitors are usually rated 85 °C (REFERENCE §3)"
+                "85 °C assumed: film capacitors are usually rated 85 °C (makers' data)"
             }
             LimitBasis::SwitchCaseAtLoss => {
-                "case temperature at which the junction reaches tj_max: tj_max − P·R_thJC (REFERENCE §9)"
+                "the case temperature at which the junction reaches its maximum: the junction maximum \
+                 less the loss times the junction-to-case thermal resistance"
             }
             LimitBasis::SwitchJunctionMax => {
-                "tj_max itself: the switch loss or R_thJC is unknown, so the case limit is optimistic"
+                "the junction maximum itself: the switch loss or its junction-to-case thermal resistance \
+                 is unknown, so this limit is optimistic"
             }
         }
     }

@@ -168,7 +168,9 @@ pub fn run_efficiency(
     Efficiency {
         calorimetric,
         differential,
-        model: model_efficiency,
+        // With no workpiece every watt is loss: the loss budget's "efficiency" of an idle run
+        // measures the model's error, not the heater, and must not sit among loaded runs.
+        model: model_efficiency.filter(|_| input.load != Load::None),
     }
 }
 

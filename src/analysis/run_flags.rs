@@ -19,8 +19,10 @@ pub const DRAWING_CURRENT_A: f64 = 0.1;
 /// the same length, or this one left on a minute longer, gets there.
 pub const TIME_TO_LIMIT_GRACE_S: f64 = 60.0;
 
-const SOURCE_CAP: &str = "REFERENCE §3: rated temperature (usually 85 °C); life halves per ~8 K (Kong & Lee, IEEE TDEI 2004)";
-const SOURCE_FIT: &str = "first-order thermal fit, REFERENCE §8 (Incropera & DeWitt)";
+const SOURCE_CAP: &str = "Film capacitors are usually rated 85 °C (makers' data); their life halves for \
+     about every 8 K more (Kong & Lee, IEEE Transactions on Dielectrics and Electrical Insulation, 2004)";
+const SOURCE_FIT: &str = "A first-order heating curve fitted to the readings (lumped capacitance: \
+     Incropera & DeWitt, Fundamentals of Heat and Mass Transfer)";
 
 /// All of a run's flags: the model's and the run rules', one per code and part, worst first.
 pub fn run_flags(
@@ -81,7 +83,7 @@ pub fn supply_limit_flag(
             "The steady supply current, {i_a:.2} A, sits at the supply's {limit_a:.2} A limit: \
              the supply is limiting and the oscillation may not have started."
         ),
-        source: "practice: a driver that does not start pulls its supply into current limit",
+        source: "Common practice: a driver that does not start pulls its supply into current limit",
     })
 }
 
@@ -105,7 +107,7 @@ pub fn no_oscillation_flag(readings: &[Reading]) -> Option<Flag> {
              the driver may not be oscillating, with both switches conducting into the chokes. \
              One frequency reading settles it."
         ),
-        source: "practice: a stalled cross-coupled driver shorts the supply through the chokes",
+        source: "Common practice: a stalled cross-coupled driver shorts the supply through the chokes",
     })
 }
 
@@ -119,8 +121,17 @@ fn title_of(result: &ThermalResult) -> String {
 /// `cap-overtemp` for tank capacitors (failure at or above the limit, warning within 10 K) and
 /// `part-overtemp` (failure) for other parts at or above theirs, from the measured maximum.
 pub fn overtemp_flags(thermal: &[ThermalResult]) -> Vec<Flag> {
-    thermal
-        .iter()
+    // Least margin first (the hotter first among equals): one flag is kept per part kind, and
+    // it must name the unit that went furthest past its limit, not the first one listed.
+    let mut by_margin: Vec<&ThermalResult> = thermal.iter().collect();
+    by_margin.sort_by(|a, b| {
+        let margin = |r: &ThermalResult| r.margin_k.unwrap_or(f64::INFINITY);
+        margin(a)
+            .total_cmp(&margin(b))
+            .then(b.t_max_c.total_cmp(&a.t_max_c))
+    });
+    by_margin
+        .into_iter()
         .filter_map(|r| {
             let (limit_c, margin_k) = r.limit_c.zip(r.margin_k)?;
             let title = title_of(r);
@@ -151,7 +162,8 @@ pub fn overtemp_flags(thermal: &[ThermalResult]) -> Vec<Flag> {
                 message: format!(
                     "{title} reached {t_max:.1} °C, at or above its {limit_c:.0} °C limit."
                 ),
-                source: "the part's rating (for a switch case: tj_max − P·R_thJC, REFERENCE §9)",
+                source: "The part's rating; for a switch case, the junction maximum less the loss times the \
+                 junction-to-case thermal resistance",
             })
         })
         .collect()
@@ -168,7 +180,7 @@ pub fn limit_assumed_flag(thermal: &[ThermalResult]) -> Option<Flag> {
             part: Some(Role::TankCapacitor),
             message: "No rated temperature is given for the tank capacitors: 85 °C is assumed."
                 .into(),
-            source: "REFERENCE §3: film capacitors are usually rated 85 °C",
+            source: "Film capacitors are usually rated 85 °C (makers' data)",
         })
 }
 

@@ -12,7 +12,7 @@ use super::trends::{RunSummary, summarise_run};
 use crate::parts::{Parts, Role};
 
 /// Bumped when the summary's meaning changes, so stale stored summaries are recomputed.
-pub const SUMMARY_VERSION: i64 = 1;
+pub const SUMMARY_VERSION: i64 = 2;
 
 /// A flag as stored: owned strings, since it outlives the rule that raised it.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

@@ -201,6 +201,33 @@ fn cap_overtemp_once_per_part_keeping_the_worst() {
 }
 
 #[test]
+fn the_overtemp_flag_names_the_unit_that_went_furthest() {
+    // Units 2 and 3 both pass the 85 °C rating; unit 3 is the hotter (105.7 against 105.6 °C)
+    // and the one the flag must name, whatever order the channels are listed in.
+    let p = parts();
+    let unit = |index| Channel::PartTemp {
+        role: Role::TankCapacitor,
+        index: Some(index),
+    };
+    let mut r = bench_run(8.0, 30.0);
+    r.push(Reading::new(200.0, unit(2), 105.6));
+    r.push(Reading::new(200.0, unit(3), 105.7));
+    let analysis = analyse_run(&input(&p, &r));
+    let flag = analysis
+        .flags
+        .iter()
+        .find(|f| f.code == "cap-overtemp")
+        .unwrap();
+    assert_eq!(flag.severity, Severity::Failure);
+    assert!(
+        flag.message.contains("Tank capacitor 3"),
+        "{}",
+        flag.message
+    );
+    assert!(flag.message.contains("105.7"), "{}", flag.message);
+}
+
+#[test]
 fn merge_keeps_the_worst_per_code_and_part_and_sorts() {
     let flag = |code, severity, part| Flag {
         code,
@@ -361,4 +388,17 @@ fn empty_run_is_analysed_without_panicking() {
     assert!(analysis.operating_point.is_none() && analysis.model.is_none());
     assert!(analysis.thermal.is_empty() && analysis.flags.is_empty());
     assert_eq!(analysis.duration_s, None);
+}
+
+#[test]
+fn an_idle_run_has_no_efficiency_by_any_method() {
+    // The model's loss budget of an idle run (about 30 % in the demo) is no efficiency: with
+    // nothing to heat, every watt is loss. It must not sit among loaded runs in charts.
+    let p = parts();
+    let r = bench_run(2.0, 10.0);
+    let mut run = input(&p, &r);
+    assert_eq!(run.load, Load::None);
+    assert_eq!(run_efficiency(&run, None, Some(0.3)).model, None);
+    run.load = Load::Ferrous;
+    assert_eq!(run_efficiency(&run, None, Some(0.3)).model, Some(0.3));
 }

@@ -31,12 +31,14 @@ pub fn check_elapsed_s(t_s: f64) -> Result<f64, String> {
     }
     if t_s < 0.0 {
         return Err(format!(
-            "must be 0 or more (seconds since the run started), got {t_s}"
+            "must be 0 or more (seconds since the run started), not {}",
+            crate::units::short_number(t_s)
         ));
     }
     if t_s > MAX_ELAPSED_S {
         return Err(format!(
-            "{t_s} s is more than a week after the start; no bench run lasts that long"
+            "{} s is more than a week after the start; no bench run lasts that long",
+            crate::units::short_number(t_s)
         ));
     }
     Ok(t_s)

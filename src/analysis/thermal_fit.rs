@@ -106,8 +106,9 @@ impl ThermalFit {
 #[derive(Serialize)]
 struct ThermalFitJson {
     t_start_c: f64,
-    t_final_c: f64,
-    tau_s: f64,
+    /// Null for an untrusted fit: a steady state the readings do not support is not stated.
+    t_final_c: Option<f64>,
+    tau_s: Option<f64>,
     rmse_k: f64,
     trustworthy: bool,
     caveat: Option<String>,
@@ -117,8 +118,8 @@ impl Serialize for ThermalFit {
     fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
         ThermalFitJson {
             t_start_c: self.t_start_c,
-            t_final_c: self.t_final_c,
-            tau_s: self.tau_s,
+            t_final_c: self.is_trusted().then_some(self.t_final_c),
+            tau_s: self.is_trusted().then_some(self.tau_s),
             rmse_k: self.rmse_k,
             trustworthy: self.trust.is_trusted(),
             caveat: self.trust.caveat(),

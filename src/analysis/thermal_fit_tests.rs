@@ -176,6 +176,9 @@ fn serializes_trust_as_a_flag_and_a_caveat() {
     assert_eq!(json["trustworthy"], false);
     assert!(json["caveat"].as_str().unwrap().contains("readings"));
     assert!(json.get("tau_s").is_some() && json.get("trust").is_none());
+    // Not trusted: no steady state and no time constant are stated, only the start.
+    assert!(json["t_final_c"].is_null() && json["tau_s"].is_null());
+    assert_eq!(json["t_start_c"].as_f64().map(f64::is_finite), Some(true));
 }
 
 proptest! {

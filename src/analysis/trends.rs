@@ -16,11 +16,18 @@ use crate::analysis::model::ModelReport;
 use crate::analysis::reading::Reading;
 use crate::analysis::run::RunAnalysis;
 use crate::analysis::series::{least_squares_line, samples};
+use crate::analysis::slope_range::{SlopeRange, slope_range};
 use crate::channel::Channel;
 use crate::parts::Role;
+use crate::units::signed;
 
 /// Runs of one revision needed before a trend counts.
 pub const MIN_RUNS_FOR_TREND: usize = 3;
+/// Running time a margin trend needs before it is stated [practice: a rate per hour taken from
+/// minutes of running is an extrapolation, not a measurement].
+pub const MIN_RUNNING_S_FOR_TREND: f64 = 1800.0;
+/// Running time before a trend is also stated per hour of running [practice, as above].
+pub const MIN_RUNNING_S_FOR_HOURLY: f64 = 3600.0;
 /// Total loss of margin over those runs that counts as degrading [practice: beyond the scatter of
 /// hand-held readings].
 pub const DEGRADING_MARGIN_DROP_K: f64 = 2.0;
@@ -74,14 +81,117 @@ pub struct PartTrend {
     pub channel: String,
     pub part: Role,
     pub points: Vec<TrendPoint>,
-    /// Least-squares slope of margin against the run's ordinal in the build.
-    pub margin_slope_k_per_run: Option<f64>,
-    /// Least-squares slope of margin against cumulative running hours.
-    pub margin_slope_k_per_hour: Option<f64>,
+    /// The margin's trend, stated only when the runs support one.
+    pub margin_trend: MarginTrend,
     pub rise_per_watt_slope_k_per_w_per_run: Option<f64>,
     /// Running time of the runs that recorded this channel.
     pub running_time_s: f64,
     pub hot_time_s: f64,
+}
+
+/// A margin trend with its 95 % ranges, or why none is stated.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(tag = "status", rename_all = "snake_case")]
+pub enum MarginTrend {
+    /// Fewer than [`MIN_RUNS_FOR_TREND`] runs with a margin, or less running than
+    /// [`MIN_RUNNING_S_FOR_TREND`].
+    NotEnoughData { runs: usize, running_s: f64 },
+    Stated {
+        runs: usize,
+        running_s: f64,
+        /// K per run, least squares against the run's place in the build, with its 95 % range.
+        #[serde(serialize_with = "range_json")]
+        per_run_k: SlopeRange,
+        /// K per hour of running, only after [`MIN_RUNNING_S_FOR_HOURLY`].
+        #[serde(serialize_with = "optional_range_json")]
+        per_hour_k: Option<SlopeRange>,
+    },
+}
+
+fn range_json<S: serde::Serializer>(r: &SlopeRange, s: S) -> Result<S::Ok, S::Error> {
+    [r.low(), r.slope, r.high()].serialize(s)
+}
+
+fn optional_range_json<S: serde::Serializer>(
+    r: &Option<SlopeRange>,
+    s: S,
+) -> Result<S::Ok, S::Error> {
+    r.map(|r| [r.low(), r.slope, r.high()]).serialize(s)
+}
+
+impl MarginTrend {
+    /// The trend in words with its range, or why there is none yet.
+    pub fn text(&self) -> String {
+        let minutes = |s: f64| (s / 60.0).round();
+        match self {
+            MarginTrend::NotEnoughData { runs, running_s } => format!(
+                "No trend yet: {runs} run{} and {:.0} min of running; a trend needs at least \
+                 {MIN_RUNS_FOR_TREND} runs and {:.0} min.",
+                if *runs == 1 { "" } else { "s" },
+                minutes(*running_s),
+                minutes(MIN_RUNNING_S_FOR_TREND),
+            ),
+            MarginTrend::Stated {
+                runs,
+                per_run_k,
+                per_hour_k,
+                ..
+            } => {
+                let range = |r: &SlopeRange, per: &str| {
+                    format!(
+                        "{}\u{a0}K {per} (95\u{a0}% range {} to {})",
+                        signed(r.slope, 1),
+                        signed(r.low(), 1),
+                        signed(r.high(), 1)
+                    )
+                };
+                let hourly = per_hour_k.map_or_else(
+                    || ". No rate per hour yet: less than an hour of running".to_string(),
+                    |r| format!(", {}", range(&r, "per hour of running")),
+                );
+                let unclear = if per_run_k.excludes_zero() {
+                    ""
+                } else {
+                    " The range includes zero: no clear change yet."
+                };
+                format!(
+                    "Margin {} over {runs} runs{hourly}.{unclear}",
+                    range(per_run_k, "per run")
+                )
+            }
+        }
+    }
+}
+
+/// The margin trend of a part's history: stated with its ranges once there are enough runs and
+/// running time.
+fn margin_trend(history: &[Sample]) -> MarginTrend {
+    let per_run: Vec<(f64, f64)> = history
+        .iter()
+        .filter_map(|s| Some((s.ordinal, s.part.margin_k?)))
+        .collect();
+    let running_s: f64 = history.iter().map(|s| s.run.duration_s.max(0.0)).sum();
+    let runs = per_run.len();
+    let stated = (runs >= MIN_RUNS_FOR_TREND && running_s >= MIN_RUNNING_S_FOR_TREND)
+        .then(|| slope_range(&per_run))
+        .flatten();
+    match stated {
+        Some(per_run_k) => MarginTrend::Stated {
+            runs,
+            running_s,
+            per_run_k,
+            per_hour_k: (running_s >= MIN_RUNNING_S_FOR_HOURLY)
+                .then(|| {
+                    let per_hour: Vec<(f64, f64)> = history
+                        .iter()
+                        .filter_map(|s| Some((s.cumulative_s / 3600.0, s.part.margin_k?)))
+                        .collect();
+                    slope_range(&per_hour)
+                })
+                .flatten(),
+        },
+        None => MarginTrend::NotEnoughData { runs, running_s },
+    }
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -220,12 +330,7 @@ fn slope(points: impl Iterator<Item = (f64, Option<f64>)>) -> Option<f64> {
 
 fn part_trend(part: Role, channel: String, history: &[Sample]) -> PartTrend {
     PartTrend {
-        margin_slope_k_per_run: slope(history.iter().map(|s| (s.ordinal, s.part.margin_k))),
-        margin_slope_k_per_hour: slope(
-            history
-                .iter()
-                .map(|s| (s.cumulative_s / 3600.0, s.part.margin_k)),
-        ),
+        margin_trend: margin_trend(history),
         rise_per_watt_slope_k_per_w_per_run: slope(
             history.iter().map(|s| (s.ordinal, rise_per_watt(s.part))),
         ),
@@ -353,7 +458,8 @@ fn degrading(part: Role, message: String) -> Flag {
         severity: Severity::Warning,
         part: Some(part),
         message,
-        source: "practice: a part losing margin or drifting run after run on the same revision is degrading",
+        source: "Common practice: a part losing margin or drifting run after run on the same revision \
+                 is wearing out",
     }
 }
 

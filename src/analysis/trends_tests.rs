@@ -53,10 +53,31 @@ fn shrinking_margin_raises_part_degrading_and_slopes_match_hand_least_squares() 
     let t = &trends.parts[0];
     // Hand-worked: x 0..3, x̄ 1.5; y 20, 18.5, 17.4, 15.9, ȳ 17.95;
     // Sxy = −1.5·2.05 − 0.5·0.55 + 0.5·(−0.55) + 1.5·(−2.05) = −6.7; Sxx = 5 → −1.34 K/run.
-    assert!((t.margin_slope_k_per_run.unwrap() + 1.34).abs() < 1e-12);
-    // Cumulative hours at each run's end: 1/6, 1/3, 2/3, 5/6, x̄ 0.5; Sxy = −(1/3)·2.05
-    // − (1/6)·0.55 − (1/6)·0.55 − (1/3)·2.05 = −1.55; Sxx = 10/36 → −5.58 K/h.
-    assert!((t.margin_slope_k_per_hour.unwrap() + 5.58).abs() < 1e-9);
+    // Residuals 0.04, −0.12, 0.12, −0.04: s_b = √(0.032/2/5), times t(2) = 4.303 (NIST/SEMATECH
+    // e-Handbook of Statistical Methods, 2012, table 1.3.6.7.2).
+    let MarginTrend::Stated {
+        per_run_k,
+        per_hour_k,
+        runs,
+        ..
+    } = &t.margin_trend
+    else {
+        panic!(
+            "50 min of running over 4 runs states a trend: {:?}",
+            t.margin_trend
+        )
+    };
+    assert_eq!(*runs, 4);
+    assert!((per_run_k.slope + 1.34).abs() < 1e-12);
+    assert!((per_run_k.half_width - 4.303 * 0.0032f64.sqrt()).abs() < 1e-12);
+    // 50 minutes of running: no rate per hour is stated.
+    assert!(per_hour_k.is_none());
+    let text = t.margin_trend.text();
+    assert!(
+        text.starts_with("Margin −1.3\u{a0}K per run (95\u{a0}% range −1.6 to −1.1)"),
+        "{text}"
+    );
+    assert!(text.contains("No rate per hour yet"), "{text}");
     assert_eq!(t.points[3].cumulative_running_s, 3000.0);
     assert_eq!((t.running_time_s, t.hot_time_s), (3000.0, 40.0));
     assert_eq!(trends.running_time_s, 3000.0);
@@ -118,7 +139,6 @@ fn rising_rise_per_watt_raises_part_degrading() {
     let t = &trends.parts[0];
     assert!((t.rise_per_watt_slope_k_per_w_per_run.unwrap() - 1.0).abs() < 1e-12);
     assert_eq!(t.points[1].rise_per_watt_k_per_w, Some(15.5));
-    assert_eq!(t.margin_slope_k_per_run, Some(0.0));
     assert!(degrading(&trends)[0].message.contains("rise per watt"));
 }
 
@@ -166,7 +186,80 @@ fn runs_are_ordered_by_start_time() {
     runs.reverse();
     let t = &build_trends(&runs).parts[0];
     assert_eq!(t.points[0].run_id, 100);
-    assert!((t.margin_slope_k_per_run.unwrap() + 2.0).abs() < 1e-12);
+    // Three runs of ten minutes are the half hour a trend needs; the slope runs oldest first.
+    let MarginTrend::Stated { per_run_k, .. } = &t.margin_trend else {
+        panic!("{:?}", t.margin_trend)
+    };
+    assert!((per_run_k.slope + 2.0).abs() < 1e-12);
+}
+
+#[test]
+fn a_trend_needs_three_runs_and_half_an_hour() {
+    // Two runs of five minutes each losing 44 K: no trend is stated, let alone "+528 K per hour".
+    let two = history(&[
+        (300.0, 60.0, 30.0, None, None),
+        (300.0, 16.0, 30.0, None, None),
+    ]);
+    let t = &build_trends(&two).parts[0];
+    assert_eq!(
+        t.margin_trend,
+        MarginTrend::NotEnoughData {
+            runs: 2,
+            running_s: 600.0
+        }
+    );
+    assert!(
+        t.margin_trend
+            .text()
+            .starts_with("No trend yet: 2 runs and 10 min")
+    );
+    // Three short runs: still not enough running.
+    let three_short = history(&[
+        (300.0, 20.0, 30.0, None, None),
+        (300.0, 18.0, 30.0, None, None),
+        (300.0, 16.0, 30.0, None, None),
+    ]);
+    assert!(matches!(
+        build_trends(&three_short).parts[0].margin_trend,
+        MarginTrend::NotEnoughData { runs: 3, .. }
+    ));
+}
+
+#[test]
+fn a_long_history_states_an_hourly_rate_with_its_range() {
+    // Four runs of 30 min: 2 h of running, margin 20, 18, 16.2, 14 K.
+    let runs = history(&[
+        (1800.0, 20.0, 30.0, None, None),
+        (1800.0, 18.0, 30.0, None, None),
+        (1800.0, 16.2, 30.0, None, None),
+        (1800.0, 14.0, 30.0, None, None),
+    ]);
+    let t = &build_trends(&runs).parts[0];
+    let MarginTrend::Stated {
+        per_run_k,
+        per_hour_k: Some(per_hour),
+        ..
+    } = &t.margin_trend
+    else {
+        panic!("{:?}", t.margin_trend)
+    };
+    // Runs are half an hour apart, so the hourly slope is twice the per-run slope, range too.
+    assert!((per_hour.slope - 2.0 * per_run_k.slope).abs() < 1e-9);
+    assert!((per_hour.half_width - 2.0 * per_run_k.half_width).abs() < 1e-9);
+    assert!(per_run_k.low() < per_run_k.slope && per_run_k.slope < per_run_k.high());
+    assert!(t.margin_trend.text().contains("per hour of running"));
+}
+
+#[test]
+fn a_scattered_margin_says_no_clear_change() {
+    let runs = history(&[
+        (900.0, 20.0, 30.0, None, None),
+        (900.0, 19.0, 30.0, None, None),
+        (900.0, 20.5, 30.0, None, None),
+        (900.0, 19.4, 30.0, None, None),
+    ]);
+    let text = build_trends(&runs).parts[0].margin_trend.text();
+    assert!(text.contains("no clear change yet"), "{text}");
 }
 
 #[test]

@@ -5,6 +5,7 @@
 use crate::analysis::model::OperatingPoint;
 use crate::parts::{Conductor, Parts};
 use crate::physics::wire_gauge::MAX_AWG;
+use crate::units::short_number as n;
 
 /// A refused input: the field as a JSON path and a plain message.
 #[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
@@ -30,12 +31,19 @@ fn positive(field: &str, value: f64, max: f64, unit: &str) -> Checked {
         return refuse(field, "must be a finite number".into());
     }
     if value <= 0.0 {
-        return refuse(field, format!("must be greater than 0 {unit}, got {value}"));
+        return refuse(
+            field,
+            format!("must be greater than 0 {unit}, not {}", n(value)),
+        );
     }
     if value > max {
         return refuse(
             field,
-            format!("{value} {unit} is implausibly large (at most {max} {unit})"),
+            format!(
+                "{} {unit} is implausibly large (at most {} {unit})",
+                n(value),
+                n(max)
+            ),
         );
     }
     Ok(())
@@ -49,7 +57,12 @@ fn within(field: &str, value: f64, min: f64, max: f64, unit: &str) -> Checked {
     if !(min..=max).contains(&value) {
         return refuse(
             field,
-            format!("must be between {min} and {max} {unit}, got {value}"),
+            format!(
+                "must be between {} and {} {unit}, not {}",
+                n(min),
+                n(max),
+                n(value)
+            ),
         );
     }
     Ok(())

@@ -1,33 +1,35 @@
-//! Where things go in the 480 × 340 viewBox.
+//! Where things go in the 480 × 360 viewBox.
 //!
-//! Text is 14 units (16 for the title): scaled onto a 390 px phone (about 360 px of content)
-//! that is about 10.5 px, and in print about 10 pt across a page.
+//! Text is 16.5 units (18 for the title): scaled onto a 390 px phone (about 358 px of content)
+//! that is 12.3 CSS px, the least a phone reads comfortably; the stylesheet caps the chart's
+//! width so it does not grow past that on a desktop.
 
 pub(crate) const VIEW_WIDTH: f64 = 480.0;
-pub(crate) const VIEW_HEIGHT: f64 = 340.0;
-pub(crate) const FONT_SIZE: f64 = 14.0;
-pub(crate) const TITLE_FONT_SIZE: f64 = 16.0;
+pub(crate) const VIEW_HEIGHT: f64 = 360.0;
+pub(crate) const FONT_SIZE: f64 = 16.5;
+pub(crate) const TITLE_FONT_SIZE: f64 = 18.0;
 /// Rough advance of one character of a sans-serif face at [`FONT_SIZE`] (about 0.6 em). Text is
 /// never measured on the server, so widths are estimated and labels kept short.
-pub(crate) const CHAR_WIDTH: f64 = 8.4;
+pub(crate) const CHAR_WIDTH: f64 = 9.9;
 
-pub(crate) const TITLE_BASELINE: f64 = 20.0;
+pub(crate) const TITLE_BASELINE: f64 = 22.0;
 /// Centre line of the first legend row, and the height of each row.
-pub(crate) const LEGEND_FIRST_ROW: f64 = 40.0;
-pub(crate) const LEGEND_ROW_HEIGHT: f64 = 20.0;
+pub(crate) const LEGEND_FIRST_ROW: f64 = 44.0;
+pub(crate) const LEGEND_ROW_HEIGHT: f64 = 24.0;
 
 /// Baseline of the x tick labels below the plot, and of the x axis title below those.
-pub(crate) const X_TICK_LABEL_OFFSET: f64 = 20.0;
-pub(crate) const X_TITLE_OFFSET: f64 = 40.0;
+pub(crate) const X_TICK_LABEL_OFFSET: f64 = 22.0;
+pub(crate) const X_TITLE_OFFSET: f64 = 44.0;
 /// Baseline of the rotated y axis title, measured from the left edge.
-pub(crate) const Y_TITLE_BASELINE: f64 = 18.0;
+pub(crate) const Y_TITLE_BASELINE: f64 = 20.0;
 /// Gap between a y tick label's right end and the plot.
 pub(crate) const Y_TICK_LABEL_GAP: f64 = 9.0;
 
-/// Direct labels at line ends are cut to this many characters; the legend has the full label.
+/// Direct labels at line ends are drawn only when every one fits in this many characters and
+/// none has to be pushed from its line's end; otherwise the legend alone names the series.
 pub(crate) const DIRECT_LABEL_CHARS: usize = 14;
 /// Direct labels closer than this are pushed apart.
-pub(crate) const DIRECT_LABEL_SPACING: f64 = 16.0;
+pub(crate) const DIRECT_LABEL_SPACING: f64 = 20.0;
 
 /// The rectangle inside the axes where data is drawn.
 #[derive(Debug, Clone, Copy, PartialEq)]

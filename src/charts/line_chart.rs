@@ -14,7 +14,11 @@ use super::palette::{GRID_COLOUR, INK};
 use super::reference_lines::{render_thresholds, render_x_markers};
 use super::scale::LinearScale;
 use super::series::{ProjectedSeries, place_direct_labels, render_series};
-use super::svg::{escape_xml, num, sanitize_id, shorten};
+use super::svg::{escape_xml, num, sanitize_id};
+
+/// A direct label moved further than this from its line's end to clear a neighbour means the
+/// ends crowd.
+const DIRECT_LABEL_NUDGE: f64 = 3.0;
 
 /// Length of the tick marks that stick out of the axes.
 const TICK_LENGTH: f64 = 5.0;
@@ -36,25 +40,44 @@ pub fn render_line_chart(chart: &LineChart) -> String {
         .map(|t| t.label.chars().count())
         .max()
         .unwrap_or(1);
-    let widest_direct_label = chart
+    let direct_label_chars = chart
         .series
         .iter()
         .filter(|s| s.finite_points().next().is_some())
-        .map(|s| shorten(&s.label, DIRECT_LABEL_CHARS).chars().count())
+        .map(|s| s.label.chars().count())
         .max()
         .unwrap_or(0);
-    let plot = PlotArea::around(legend.rows, widest_y_tick, widest_direct_label);
-
     let x_range = span(extent.map(|e| e.x), chart.x_markers.iter().map(|m| m.x));
-    let x = x_axis(&chart.x_format, x_range, plot.width());
-    let x_scale = LinearScale {
-        domain: x.domain,
-        range: (plot.left, plot.right),
+    let frame = |gutter_chars: usize| {
+        let plot = PlotArea::around(legend.rows, widest_y_tick, gutter_chars);
+        let x = x_axis(&chart.x_format, x_range, plot.width());
+        let x_scale = LinearScale {
+            domain: x.domain,
+            range: (plot.left, plot.right),
+        };
+        let y_scale = LinearScale {
+            domain: y.domain,
+            range: (plot.bottom, plot.top),
+        };
+        let projected: Vec<ProjectedSeries> = chart
+            .series
+            .iter()
+            .map(|s| ProjectedSeries::project(s, &x_scale, &y_scale))
+            .collect();
+        (plot, x, x_scale, y_scale, projected)
     };
-    let y_scale = LinearScale {
-        domain: y.domain,
-        range: (plot.bottom, plot.top),
-    };
+    // Labels at the line ends when they fit as they are; when they would be cut or pushed off
+    // their lines (the ends crowd), the legend alone names the series and the plot takes the room.
+    let (mut plot, mut x, mut x_scale, mut y_scale, mut projected) = frame(direct_label_chars);
+    let ends: Vec<Option<f64>> = projected.iter().map(ProjectedSeries::end_height).collect();
+    let mut label_heights = place_direct_labels(&ends, &plot);
+    let crowded = ends.iter().zip(&label_heights).any(|(end, placed)| {
+        matches!((end, placed), (Some(e), Some(p)) if (e.clamp(plot.top, plot.bottom) - p).abs() > DIRECT_LABEL_NUDGE)
+    });
+    if crowded || direct_label_chars > DIRECT_LABEL_CHARS {
+        (plot, x, x_scale, y_scale, projected) = frame(0);
+        label_heights = vec![None; chart.series.len()];
+    }
 
     let mut out = String::with_capacity(16 * 1024);
     open_svg(&mut out, chart, &id, &describe(chart, extent), &plot);
@@ -64,13 +87,6 @@ pub fn render_line_chart(chart: &LineChart) -> String {
     render_thresholds(&mut out, &chart.thresholds, &y_scale, &plot);
     render_x_markers(&mut out, &chart.x_markers, &x_scale, &plot);
 
-    let projected: Vec<ProjectedSeries> = chart
-        .series
-        .iter()
-        .map(|s| ProjectedSeries::project(s, &x_scale, &y_scale))
-        .collect();
-    let ends: Vec<Option<f64>> = projected.iter().map(ProjectedSeries::end_height).collect();
-    let label_heights = place_direct_labels(&ends, &plot);
     let clip_id = format!("{id}-plot");
     for (position, series) in chart.series.iter().enumerate() {
         render_series(

@@ -52,11 +52,28 @@ const ON_TICK_EPSILON: f64 = 1e-9;
 /// (or by 1 around zero); non-finite input falls back to 0–1.
 pub fn nice_ticks(lo: f64, hi: f64, target_count: usize) -> Ticks {
     let (lo, hi) = widen_if_flat(lo, hi, default_flat_padding(lo));
+    let (lo, hi) = at_least_relative_span(lo, hi);
     let step = nice_step((hi - lo) / target_count.max(1) as f64);
     Ticks {
         values: ticks_covering(lo, hi, step),
         step: step.size(),
     }
+}
+
+/// The narrowest axis, relative to the size of its values. A range narrower than this is the
+/// scatter of a fit or a reading's last digit; ticks finer than it would print five or more
+/// significant figures the data does not support. A tenth of a percent of drift (of frequency or
+/// capacitance) still fills the axis.
+const MIN_RELATIVE_SPAN: f64 = 1e-3;
+
+/// `lo..hi` widened about its middle to at least [`MIN_RELATIVE_SPAN`] of its magnitude.
+fn at_least_relative_span(lo: f64, hi: f64) -> (f64, f64) {
+    let least = lo.abs().max(hi.abs()) * MIN_RELATIVE_SPAN;
+    if hi - lo >= least {
+        return (lo, hi);
+    }
+    let middle = (lo + hi) / 2.0;
+    (middle - least / 2.0, middle + least / 2.0)
 }
 
 /// Ordered, finite and not flat: what every scale needs before choosing a step.
@@ -203,6 +220,15 @@ mod tests {
     fn decimal_ticks_are_exact_decimals() {
         let ticks = nice_ticks(0.1, 0.7, 6);
         assert_eq!(ticks.values, vec![0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7]);
+    }
+
+    #[test]
+    fn a_range_under_a_thousandth_of_its_size_is_widened_to_four_figures() {
+        let scatter = nice_ticks(0.88003, 0.88017, 5);
+        assert!(scatter.step >= 1e-4, "step {}", scatter.step);
+        assert_nice_cover(0.88003, 0.88017, &scatter);
+        let drift = nice_ticks(125_500.0, 125_900.0, 5);
+        assert_eq!(drift.step, 100.0, "a 0.3 % drift keeps its own scale");
     }
 
     #[test]

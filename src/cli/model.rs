@@ -29,7 +29,8 @@ pub fn model_command(file: &std::path::Path, table: bool) -> anyhow::Result<()> 
         .unwrap_or(0);
     for row in &rows {
         let pad = width - row.title.chars().count();
-        println!("{}{}  {}", row.title, " ".repeat(pad), row.display());
+        let value = row.display().replace('\u{a0}', " ");
+        println!("{}{}  {}", row.title, " ".repeat(pad), value);
     }
     if report.switch_thermal_runaway {
         println!("\nSwitch thermal runaway: no steady junction temperature below its limit.");

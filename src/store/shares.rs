@@ -104,13 +104,20 @@ impl Store {
 
     /// The live share behind a token hash; revoked and expired links are not found.
     pub async fn live_share(&self, token_hash: &str) -> StoreResult<Option<Share>> {
-        let share: Option<Share> = sqlx::query_as(sqlx::AssertSqlSafe(format!(
+        Ok(self
+            .share_by_token_hash(token_hash)
+            .await?
+            .filter(|s| s.is_live(now_unix_s())))
+    }
+
+    /// The share behind a token hash, live or not, so a dead link can say why it is dead.
+    pub async fn share_by_token_hash(&self, token_hash: &str) -> StoreResult<Option<Share>> {
+        Ok(sqlx::query_as(sqlx::AssertSqlSafe(format!(
             "{SHARE_SELECT} WHERE s.token_hash = ?"
         )))
         .bind(token_hash)
         .fetch_optional(&self.pool)
-        .await?;
-        Ok(share.filter(|s| s.is_live(now_unix_s())))
+        .await?)
     }
 
     pub async fn shares_of_build(&self, build_id: BuildId) -> StoreResult<Vec<Share>> {

@@ -16,6 +16,9 @@ pub type Result<T, E = AppError> = std::result::Result<T, E>;
 pub enum AppError {
     #[error("not found")]
     NotFound,
+    /// Not found, with a sentence saying why (a revoked or expired share link).
+    #[error("{0}")]
+    Gone(String),
     #[error("sign in first")]
     LoginRequired,
     #[error("your account may not do this")]
@@ -47,7 +50,8 @@ impl AppError {
 
     fn status(&self) -> StatusCode {
         match self {
-            AppError::NotFound => StatusCode::NOT_FOUND,
+            // Still 404: a dead link reads like any other address that opens nothing.
+            AppError::NotFound | AppError::Gone(_) => StatusCode::NOT_FOUND,
             AppError::LoginRequired => StatusCode::UNAUTHORIZED,
             AppError::Forbidden => StatusCode::FORBIDDEN,
             AppError::BadRequest(_) => StatusCode::BAD_REQUEST,

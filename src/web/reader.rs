@@ -33,9 +33,13 @@ impl FromRequestParts<AppState> for Reader {
             }
             let share = state
                 .store
-                .live_share(&token_hash(&token))
+                .share_by_token_hash(&token_hash(&token))
                 .await?
                 .ok_or(AppError::NotFound)?;
+            let now = crate::store::now_unix_s();
+            if let Some(why) = dead_link_sentence(&share, now) {
+                return Err(AppError::Gone(why));
+            }
             return Ok(Reader::Share { token, share });
         }
         let CurrentUser(user) = CurrentUser::from_request_parts(parts, state).await?;
@@ -89,5 +93,25 @@ impl Reader {
                 chrome
             }
         }
+    }
+}
+
+/// Why a share link no longer opens anything, in a sentence; `None` while it is live.
+fn dead_link_sentence(share: &Share, now_unix_s: i64) -> Option<String> {
+    let day = |t: i64| crate::web::view::date_time(t);
+    if let Some(at) = share.revoked_at {
+        return Some(format!(
+            "This read-only link was revoked on {} by the people who shared it, so it no longer \
+             opens their build. Ask them for a new link if you still need it.",
+            day(at)
+        ));
+    }
+    match share.expires_at {
+        Some(at) if at <= now_unix_s => Some(format!(
+            "This read-only link expired on {}, so it no longer opens the build it was made for. \
+             Ask whoever shared it for a new link if you still need it.",
+            day(at)
+        )),
+        _ => None,
     }
 }

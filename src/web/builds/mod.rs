@@ -1,6 +1,7 @@
 //! The builds list, a new build, and a build's page.
 
 pub mod export;
+mod history;
 pub mod runs_list;
 pub mod view;
 
@@ -144,7 +145,8 @@ struct ShowPage {
     charts: Vec<ChartView>,
     revision_labels: Vec<String>,
     shares: Vec<ShareLine>,
-    history: Vec<(String, String, String, String)>,
+    /// (when, the logbook sentence)
+    history: Vec<(String, String)>,
 }
 
 struct RevisionLine {
@@ -236,6 +238,10 @@ async fn render_show(state: &AppState, reader: &Reader, build: Build) -> Result<
         true => share_lines(&state.store.shares_of_build(build.id).await?),
         false => Vec::new(),
     };
+    let revision_of_run: std::collections::HashMap<i64, String> = all_runs
+        .iter()
+        .map(|r| (r.id.0, r.revision_label()))
+        .collect();
     let history = match reader.is_share() {
         true => Vec::new(),
         false => state
@@ -244,11 +250,15 @@ async fn render_show(state: &AppState, reader: &Reader, build: Build) -> Result<
             .await?
             .into_iter()
             .map(|e| {
+                let entry = history::Entry {
+                    who: &e.actor_name,
+                    action: &e.action,
+                    subject: &e.subject,
+                    detail: &e.detail,
+                };
                 (
                     date_time(e.at),
-                    e.actor_name,
-                    e.action,
-                    format!("{} {}", e.subject, e.detail).trim().to_string(),
+                    history::logbook_line(&entry, &revision_of_run),
                 )
             })
             .collect(),

@@ -34,7 +34,8 @@ pub struct BuildHealth {
     pub revision: String,
     pub run_count: usize,
     pub parts: Vec<PartHealth>,
-    pub build_flags: Vec<(String, &'static str, String)>,
+    /// (rule for selectors, title, severity, message)
+    pub build_flags: Vec<(String, &'static str, &'static str, String)>,
 }
 
 fn severity_word(s: Severity) -> &'static str {
@@ -69,11 +70,16 @@ pub fn build_health(revision: &str, digests: &[&RunDigest]) -> BuildHealth {
     let mut parts: Vec<PartHealth> = by_role
         .into_iter()
         .map(|(role, units)| {
-            let latest = |t: &crate::analysis::trends::PartTrend| t.points.last().and_then(|p| p.margin_k);
+            let latest =
+                |t: &crate::analysis::trends::PartTrend| t.points.last().and_then(|p| p.margin_k);
             // The unit with the least margin on the latest run leads the row.
             let worst_unit = units
                 .iter()
-                .min_by(|a, b| latest(a).unwrap_or(f64::MAX).total_cmp(&latest(b).unwrap_or(f64::MAX)))
+                .min_by(|a, b| {
+                    latest(a)
+                        .unwrap_or(f64::MAX)
+                        .total_cmp(&latest(b).unwrap_or(f64::MAX))
+                })
                 .copied()
                 .expect("a role in the map has a unit");
             let margin = latest(worst_unit);
@@ -82,7 +88,12 @@ pub fn build_health(revision: &str, digests: &[&RunDigest]) -> BuildHealth {
                 .iter()
                 .filter(|f| f.part == Some(role))
                 .map(|f| (f.severity, f.message.clone()))
-                .chain(latest_flags.iter().filter(|f| f.part == Some(role)).map(|f| (f.severity, f.message.clone())))
+                .chain(
+                    latest_flags
+                        .iter()
+                        .filter(|f| f.part == Some(role))
+                        .map(|f| (f.severity, f.message.clone())),
+                )
                 .collect();
             findings.sort_by_key(|(s, _)| std::cmp::Reverse(*s));
             let margin_severity = match margin {
@@ -90,7 +101,10 @@ pub fn build_health(revision: &str, digests: &[&RunDigest]) -> BuildHealth {
                 Some(m) if m < 10.0 => Some(Severity::Warning),
                 _ => None,
             };
-            let flag_severity = findings.first().map(|(s, _)| *s).filter(|s| *s > Severity::Note);
+            let flag_severity = findings
+                .first()
+                .map(|(s, _)| *s)
+                .filter(|s| *s > Severity::Note);
             let severity = flag_severity.max(margin_severity);
             let unit_title = channel_title(&worst_unit.channel);
             let margin_text = match margin {
@@ -101,12 +115,7 @@ pub fn build_health(revision: &str, digests: &[&RunDigest]) -> BuildHealth {
                 Some((s, message)) if *s > Severity::Note => message.clone(),
                 _ => margin_text.clone(),
             };
-            let trend_text = match (worst_unit.margin_slope_k_per_run, worst_unit.margin_slope_k_per_hour) {
-                (Some(per_run), Some(per_hour)) if worst_unit.points.len() >= 2 => {
-                    format!("{unit_title} margin {per_run:+.1} K per run, {per_hour:+.0} K per hour of running")
-                }
-                _ => "one run so far: no trend yet".into(),
-            };
+            let trend_text = format!("{unit_title}: {}", worst_unit.margin_trend.text());
             let count = units.len();
             let degrading: Vec<String> = trends
                 .flags
@@ -115,11 +124,20 @@ pub fn build_health(revision: &str, digests: &[&RunDigest]) -> BuildHealth {
                 .map(|f| f.message.clone())
                 .collect();
             PartHealth {
-                rank: (severity.map_or(0, |s| s as u8 + 1), margin.map_or(i64::MAX, |m| (m * 10.0) as i64)),
+                rank: (
+                    severity.map_or(0, |s| s as u8 + 1),
+                    margin.map_or(i64::MAX, |m| (m * 10.0) as i64),
+                ),
                 severity: severity.map_or("ok", severity_word),
-                title: if count > 1 { format!("{} ({count} logged)", role.title()) } else { role.title().to_string() },
+                title: if count > 1 {
+                    format!("{} ({count} logged)", role.title())
+                } else {
+                    role.title().to_string()
+                },
                 headline,
-                latest_margin: margin.map(|m| format!("{m:.1} K ({unit_title})")).unwrap_or_else(|| "—".into()),
+                latest_margin: margin
+                    .map(|m| format!("{m:.1} K ({unit_title})"))
+                    .unwrap_or_else(|| "—".into()),
                 trend: trend_text,
                 running: format!(
                     "{} running, {} hot (above 80 % of the way to its limit)",
@@ -127,7 +145,9 @@ pub fn build_health(revision: &str, digests: &[&RunDigest]) -> BuildHealth {
                     duration_text(units.iter().map(|u| u.hot_time_s).fold(0.0, f64::max))
                 ),
                 degrading,
-                details: std::iter::once(margin_text).chain(findings.into_iter().map(|(_, m)| m)).collect(),
+                details: std::iter::once(margin_text)
+                    .chain(findings.into_iter().map(|(_, m)| m))
+                    .collect(),
             }
         })
         .collect();
@@ -140,6 +160,7 @@ pub fn build_health(revision: &str, digests: &[&RunDigest]) -> BuildHealth {
         .map(|f| {
             (
                 f.code.to_string(),
+                crate::analysis::flags::flag_title(f.code),
                 severity_word(f.severity),
                 f.message.clone(),
             )

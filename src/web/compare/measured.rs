@@ -4,20 +4,25 @@
 
 use std::collections::BTreeMap;
 
-use super::rows::{Better, Cell, CompareRow};
-use crate::analysis::flags::Severity;
+use super::rows::{Cell, CompareRow, Entry, Shown};
+use crate::analysis::comparison::{
+    Conditions, Direction, EFFICIENCY_UNCERTAINTY, RunValue, Summary, TEMPERATURE_UNCERTAINTY_K,
+};
+use crate::analysis::flags::{Severity, flag_title};
 use crate::analysis::run_summary::{RunDigest, StoredEfficiency};
 use crate::analysis::series::median;
 use crate::parts::Role;
-use crate::units::{Unit, eng};
+use crate::units::{Unit, eng_precise};
 
 /// One chosen revision and what its runs left.
 pub struct RevisionRuns<'a> {
     pub label: String,
     /// Oldest first.
     pub digests: Vec<&'a RunDigest>,
-    /// The digests of the runs with a load: an idle run heats nothing, so it has no efficiency.
-    pub loaded: Vec<&'a RunDigest>,
+    /// The load of each run in words ("no load", "ferrous workpiece"), beside `digests`.
+    pub loads: Vec<&'static str>,
+    /// Supply and loads of all its runs.
+    pub conditions: Conditions,
     /// Runs that ended with a part failed.
     pub part_failed: usize,
 }
@@ -33,42 +38,102 @@ pub const METHODS: [(&str, EfficiencyOf); 3] = [
 ];
 
 fn percent(v: f64) -> String {
-    format!("{:.1} %", v * 100.0)
+    format!("{:.1}\u{a0}%", v * 100.0)
 }
 
-/// The rows of the measured-results section.
-pub fn measured_rows(revisions: &[RevisionRuns]) -> Vec<CompareRow> {
+fn points(v: f64) -> String {
+    format!("{:.1} points", v * 100.0)
+}
+
+fn celsius(v: f64) -> String {
+    format!("{v:.1}\u{a0}°C")
+}
+
+fn kelvin(v: f64) -> String {
+    format!("{v:.1}\u{a0}K")
+}
+
+/// Each revision's runs' values of one quantity, with their conditions.
+fn entries(revisions: &[RevisionRuns], value: &dyn Fn(&RunDigest) -> Option<f64>) -> Vec<Entry> {
+    revisions
+        .iter()
+        .map(|r| Entry {
+            revision: r.label.clone(),
+            runs: r
+                .digests
+                .iter()
+                .zip(&r.loads)
+                .filter_map(|(d, load)| {
+                    Some(RunValue {
+                        supply_voltage_v: d.supply_voltage_v,
+                        load: (*load).to_string(),
+                        value: value(d)?,
+                    })
+                })
+                .collect(),
+        })
+        .collect()
+}
+
+fn highest(v: &[f64]) -> Option<f64> {
+    v.iter().copied().reduce(f64::max)
+}
+
+fn lowest(v: &[f64]) -> Option<f64> {
+    v.iter().copied().reduce(f64::min)
+}
+
+fn middle(v: &[f64]) -> Option<f64> {
+    median(v.iter().copied())
+}
+
+/// The rows of the measured-results section, each judged against `baseline` (an index into
+/// `revisions`).
+pub fn measured_rows(revisions: &[RevisionRuns], baseline: usize) -> Vec<CompareRow> {
     let per = |f: &dyn Fn(&RevisionRuns) -> Option<f64>| -> Vec<(String, Option<f64>)> {
         revisions.iter().map(|r| (r.label.clone(), f(r))).collect()
     };
     let mut rows = vec![CompareRow::numbers(
         "runs",
         "Runs logged",
-        Better::Neither,
         &per(&|r| Some(r.digests.len() as f64)),
         |v| format!("{v}"),
     )];
+    rows.push(CompareRow::text(
+        "conditions",
+        "Conditions (median supply, loads)",
+        revisions
+            .iter()
+            .map(|r| Cell::plain(&r.label, conditions_text(&r.conditions)))
+            .collect(),
+    ));
     for (method, of) in METHODS {
-        let values = |r: &RevisionRuns| -> Vec<f64> {
-            r.loaded.iter().filter_map(|d| of(&d.efficiency)).collect()
-        };
-        if revisions.iter().all(|r| values(r).is_empty()) {
+        // Idle runs carry no efficiency (see `analysis::run::run_efficiency`).
+        let efficiency = move |d: &RunDigest| of(&d.efficiency);
+        let per_revision = entries(revisions, &efficiency);
+        if per_revision.iter().all(|e| e.runs.is_empty()) {
             continue;
         }
-        rows.push(CompareRow::numbers(
-            format!("best-efficiency-{method}"),
-            format!("Best efficiency ({method})"),
-            Better::Higher,
-            &per(&|r| values(r).into_iter().reduce(f64::max)),
-            percent,
-        ));
-        rows.push(CompareRow::numbers(
-            format!("median-efficiency-{method}"),
-            format!("Median efficiency ({method})"),
-            Better::Higher,
-            &per(&|r| median(values(r))),
-            percent,
-        ));
+        for (key, title, pick) in [
+            ("best", "Best", highest as fn(&[f64]) -> Option<f64>),
+            ("median", "Median", middle),
+        ] {
+            rows.push(CompareRow::judged(
+                format!("{key}-efficiency-{method}"),
+                format!("{title} efficiency ({method})"),
+                &per_revision,
+                baseline,
+                Summary {
+                    pick,
+                    instrument: EFFICIENCY_UNCERTAINTY,
+                    direction: Direction::Higher,
+                },
+                Shown {
+                    value: &percent,
+                    difference: &points,
+                },
+            ));
+        }
     }
     let roles: Vec<Role> = revisions
         .iter()
@@ -81,44 +146,66 @@ pub fn measured_rows(revisions: &[RevisionRuns]) -> Vec<CompareRow> {
         .into_iter()
         .collect();
     for role in roles {
-        let parts = |r: &RevisionRuns| -> Vec<(f64, Option<f64>)> {
-            r.digests
+        // Per run, the role's hottest unit and its least margin.
+        let hottest = move |d: &RunDigest| {
+            d.trend
+                .parts
                 .iter()
-                .flat_map(|d| d.trend.parts.iter())
                 .filter(|p| p.part == role)
-                .map(|p| (p.t_max_c, p.margin_k))
-                .collect()
+                .map(|p| p.t_max_c)
+                .reduce(f64::max)
         };
-        rows.push(CompareRow::numbers(
+        let least_margin = move |d: &RunDigest| {
+            d.trend
+                .parts
+                .iter()
+                .filter(|p| p.part == role)
+                .filter_map(|p| p.margin_k)
+                .reduce(f64::min)
+        };
+        rows.push(CompareRow::judged(
             format!("t-max-{}", role.key()),
             format!("{}: hottest reading", role.title()),
-            Better::Lower,
-            &per(&|r| parts(r).into_iter().map(|(t, _)| t).reduce(f64::max)),
-            |v| format!("{v:.1} °C"),
+            &entries(revisions, &hottest),
+            baseline,
+            Summary {
+                pick: highest,
+                instrument: TEMPERATURE_UNCERTAINTY_K,
+                direction: Direction::Lower,
+            },
+            Shown {
+                value: &celsius,
+                difference: &kelvin,
+            },
         ));
-        rows.push(CompareRow::numbers(
+        rows.push(CompareRow::judged(
             format!("margin-{}", role.key()),
             format!("{}: least margin to its limit", role.title()),
-            Better::Higher,
-            &per(&|r| parts(r).into_iter().filter_map(|(_, m)| m).reduce(f64::min)),
-            |v| format!("{v:.1} K"),
+            &entries(revisions, &least_margin),
+            baseline,
+            Summary {
+                pick: lowest,
+                instrument: TEMPERATURE_UNCERTAINTY_K,
+                direction: Direction::Higher,
+            },
+            Shown {
+                value: &kelvin,
+                difference: &kelvin,
+            },
         ));
     }
     rows.push(CompareRow::numbers(
         "median-frequency",
         "Median operating frequency",
-        Better::Neither,
         &per(&|r| median(r.digests.iter().filter_map(|d| d.frequency_hz))),
-        |v| eng(v, Unit::Hertz).to_string(),
+        |v| eng_precise(v, Unit::Hertz).to_string(),
     ));
-    let failed_row = CompareRow::numbers(
+    rows.push(CompareRow::numbers(
         "part-failed-runs",
         "Runs that ended with a part failed",
-        Better::Lower,
         &per(&|r| (!r.digests.is_empty()).then_some(r.part_failed as f64)),
         |v| format!("{v}"),
-    );
-    rows.push(failed_row);
+    ));
     let worst: Vec<BTreeMap<&str, (Severity, &str)>> =
         revisions.iter().map(|r| worst_flags(&r.digests)).collect();
     let count_at = |severity: Severity| -> Vec<(String, Option<f64>)> {
@@ -133,21 +220,19 @@ pub fn measured_rows(revisions: &[RevisionRuns]) -> Vec<CompareRow> {
     };
     rows.push(CompareRow::numbers(
         "failure-flags",
-        "Kinds of flag raised at failure",
-        Better::Lower,
+        "Kinds of finding at failure",
         &count_at(Severity::Failure),
         |v| format!("{v}"),
     ));
     rows.push(CompareRow::numbers(
         "warning-flags",
-        "Kinds of flag raised at warning",
-        Better::Lower,
+        "Kinds of finding at warning",
         &count_at(Severity::Warning),
         |v| format!("{v}"),
     ));
     rows.push(CompareRow::text(
         "flags",
-        "Flags, worst per code",
+        "Findings, the worst of each kind",
         revisions
             .iter()
             .zip(&worst)
@@ -155,27 +240,44 @@ pub fn measured_rows(revisions: &[RevisionRuns]) -> Vec<CompareRow> {
                 let mut listed: Vec<(&str, Severity, &str)> =
                     w.iter().map(|(code, (s, m))| (*code, *s, *m)).collect();
                 listed.sort_by_key(|(code, s, _)| (std::cmp::Reverse(*s), *code));
-                Cell {
-                    revision: r.label.clone(),
-                    value: if listed.is_empty() {
-                        "none".into()
+                let mut cell = Cell::plain(
+                    &r.label,
+                    if listed.is_empty() {
+                        "none".to_string()
                     } else {
                         listed
                             .iter()
-                            .map(|(code, s, _)| format!("{code} ({})", severity_word(*s)))
+                            .map(|(code, s, _)| {
+                                format!("{} ({})", flag_title(code), severity_word(*s))
+                            })
                             .collect::<Vec<_>>()
                             .join(", ")
                     },
-                    better: false,
-                    details: listed
-                        .iter()
-                        .map(|(code, s, m)| format!("{} {code}: {m}", severity_word(*s)))
-                        .collect(),
-                }
+                );
+                cell.details = listed
+                    .iter()
+                    .map(|(code, s, m)| {
+                        format!("{} — {}: {m}", flag_title(code), severity_word(*s))
+                    })
+                    .collect();
+                cell
             })
             .collect(),
     ));
     rows
+}
+
+/// "24.0 V, steel" in words for the conditions row.
+fn conditions_text(c: &Conditions) -> String {
+    let supply = c.supply_voltage_v.map_or_else(
+        || "supply not logged".to_string(),
+        |v| format!("{v:.1}\u{a0}V"),
+    );
+    if c.loads.is_empty() {
+        supply
+    } else {
+        format!("{supply}, {}", c.loads.join(" and "))
+    }
 }
 
 pub fn severity_word(s: Severity) -> &'static str {

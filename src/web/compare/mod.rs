@@ -23,6 +23,7 @@ use self::measured::{RevisionRuns, measured_rows};
 use self::model_rows::{default_supply_v, model_rows};
 use self::parts_diff::StepDiff;
 use self::rows::CompareRow;
+use crate::analysis::comparison::Conditions;
 use crate::analysis::model::{OperatingPoint, validate};
 use crate::analysis::model_table::MODEL_CAVEATS;
 use crate::analysis::run_summary::RunDigest;
@@ -116,7 +117,8 @@ struct ComparePage {
     chrome: Chrome,
     build: Build,
     labels: Vec<String>,
-    reversed: String,
+    /// The revision the measured results are judged against.
+    baseline: String,
     steps: Vec<StepDiff>,
     supply_text: String,
     supply_typed: String,
@@ -127,6 +129,15 @@ struct ComparePage {
     measured_rows: Vec<CompareRow>,
     figures: Vec<Figure>,
     caveats: &'static [&'static str],
+}
+
+/// The chosen baseline (`base=r2`) among the labels, else the oldest.
+fn baseline_index(query: &[(String, String)], labels: &[String]) -> usize {
+    query
+        .iter()
+        .find(|(k, _)| k == "base")
+        .and_then(|(_, v)| labels.iter().position(|l| l == v.trim()))
+        .unwrap_or(0)
 }
 
 /// Runs of a build, oldest first.
@@ -161,7 +172,8 @@ async fn compare(
         };
         return Ok((StatusCode::UNPROCESSABLE_ENTITY, page).into_response());
     }
-    let chosen: Vec<&Revision> = labels
+    // Older to newer, whatever order they were picked in: each change reads forward.
+    let mut chosen: Vec<&Revision> = labels
         .iter()
         .map(|l| {
             revisions
@@ -170,6 +182,9 @@ async fn compare(
                 .expect("refuse_choice checked every label")
         })
         .collect();
+    chosen.sort_by_key(|r| r.id);
+    let labels: Vec<String> = chosen.iter().map(|r| r.label()).collect();
+    let baseline = baseline_index(&query, &labels);
 
     // Only the chosen revisions' runs, from their kept digests.
     let runs: Vec<Run> = runs_oldest_first(&state.store, &build)
@@ -212,7 +227,7 @@ async fn compare(
     };
     let page = ComparePage {
         chrome: reader.chrome(format!("{} {}", build.name, labels.join(" vs ")), &build),
-        reversed: labels.iter().rev().cloned().collect::<Vec<_>>().join(","),
+        baseline: labels[baseline].clone(),
         revs_value: labels.join(","),
         supply_text: supply
             .volts
@@ -220,7 +235,7 @@ async fn compare(
         supply_typed: supply.typed,
         supply_basis: supply.basis.into(),
         errors: supply.errors,
-        measured_rows: measured_rows(&per_revision),
+        measured_rows: measured_rows(&per_revision, baseline),
         model_rows: model,
         steps,
         figures,
@@ -246,12 +261,12 @@ fn group_by_revision<'a>(
                     .filter(|(run, _)| run.revision_id == revision.id)
             };
             RevisionRuns {
+                conditions: Conditions::of_runs(
+                    mine().map(|(run, d)| (d.supply_voltage_v, load_words(&run.load))),
+                ),
+                loads: mine().map(|(run, _)| load_words(&run.load)).collect(),
                 label: revision.label(),
                 digests: mine().map(|(_, d)| d).collect(),
-                loaded: mine()
-                    .filter(|(run, _)| run.load != "none")
-                    .map(|(_, d)| d)
-                    .collect(),
                 part_failed: mine()
                     .filter(|(run, _)| {
                         run.outcome.as_deref().and_then(Outcome::parse) == Some(Outcome::PartFailed)
@@ -260,6 +275,17 @@ fn group_by_revision<'a>(
             }
         })
         .collect()
+}
+
+/// A run's load in the words of the conditions row.
+fn load_words(load: &str) -> &'static str {
+    match load {
+        "none" => "no load",
+        "ferrous" => "ferrous workpiece",
+        "non_ferrous" => "non-ferrous workpiece",
+        "water" => "water",
+        _ => "unknown load",
+    }
 }
 
 /// The supply the model is evaluated at for every chosen revision.

@@ -3,7 +3,7 @@
 
 use super::measured::severity_word;
 use super::rows::{Cell, CompareRow};
-use crate::analysis::flags::Severity;
+use crate::analysis::flags::{Severity, flag_title};
 use crate::analysis::model::{OperatingPoint, evaluate, validate};
 use crate::analysis::model_table::quantity_rows;
 use crate::parts::Parts;
@@ -66,15 +66,7 @@ pub fn model_rows(revisions: &[(String, &Parts)], supply_voltage_v: f64) -> Vec<
                     }
                     Err(reason) => (reason.clone(), false),
                 };
-                (
-                    Cell {
-                        revision: label.clone(),
-                        value,
-                        better: false,
-                        details: Vec::new(),
-                    },
-                    known,
-                )
+                (Cell::plain(label.clone(), value), known)
             })
             .collect();
         if !cells.iter().any(|(_, known)| *known) {
@@ -115,24 +107,22 @@ pub fn model_rows(revisions: &[(String, &Parts)], supply_voltage_v: f64) -> Vec<
                         .collect::<Vec<_>>()
                         .join(" · ");
                     Cell {
-                        revision: label.clone(),
-                        value: words,
-                        better: false,
                         details: report
                             .flags
                             .iter()
                             .map(|f| {
-                                format!("{} {}: {}", severity_word(f.severity), f.code, f.message)
+                                format!(
+                                    "{} — {}: {}",
+                                    flag_title(f.code),
+                                    severity_word(f.severity),
+                                    f.message
+                                )
                             })
                             .collect(),
+                        ..Cell::plain(label.clone(), words)
                     }
                 }
-                Err(reason) => Cell {
-                    revision: label.clone(),
-                    value: reason.clone(),
-                    better: false,
-                    details: Vec::new(),
-                },
+                Err(reason) => Cell::plain(label.clone(), reason.clone()),
             })
             .collect(),
     ));

@@ -357,6 +357,9 @@ mod tests {
         let rows = diff_parts(&old, &new);
         assert_eq!(rows.len(), 1);
         assert_eq!(rows[0].change, Change::Added);
-        assert_eq!(rows[0].values(), "Inductance 47 µH; Number of chokes 2");
+        assert_eq!(
+            rows[0].values(),
+            "Inductance 47\u{a0}µH; Number of chokes 2"
+        );
     }
 }

@@ -34,6 +34,8 @@ pub struct WhatIfQuery {
 
 pub struct ModelPanel {
     pub query: WhatIfQuery,
+    /// Whether the visitor typed a what-if (as opposed to the nominal operating point).
+    pub asked: bool,
     pub errors: FieldErrors,
     /// Where the operating point came from, in words.
     pub basis: String,
@@ -46,7 +48,10 @@ pub struct ModelPanel {
 /// A flag as a page shows it.
 #[derive(Clone)]
 pub struct FlagView {
+    /// The rule, for tests' selectors only (`data-code`); never shown.
     pub code: &'static str,
+    /// What a practitioner would call the finding.
+    pub title: &'static str,
     pub severity: &'static str,
     pub part: String,
     pub message: String,
@@ -57,6 +62,7 @@ impl FlagView {
     pub fn from_flag(flag: &Flag) -> FlagView {
         FlagView {
             code: flag.code,
+            title: crate::analysis::flags::flag_title(flag.code),
             severity: match flag.severity {
                 crate::analysis::flags::Severity::Note => "note",
                 crate::analysis::flags::Severity::Warning => "warning",
@@ -70,6 +76,20 @@ impl FlagView {
 }
 
 impl ModelPanel {
+    /// What was typed into the what-if, as "Supply voltage 30 V", so the answer is read beside
+    /// the question; empty when the panel shows the revision's own operating point.
+    pub fn typed(&self) -> String {
+        if !self.asked {
+            return String::new();
+        }
+        self.fields()
+            .into_iter()
+            .filter(|(_, _, value, _)| !value.trim().is_empty())
+            .map(|(_, title, value, _)| format!("{title} {}", crate::units::quoted(&value, 20)))
+            .collect::<Vec<_>>()
+            .join(" · ")
+    }
+
     /// The what-if fields: name, title, typed value, placeholder.
     pub fn fields(&self) -> Vec<(&'static str, &'static str, String, &'static str)> {
         let q = &self.query;
@@ -108,6 +128,7 @@ impl ModelPanel {
     /// Evaluates the panel. With no supply typed, the revision's nominal supply is used.
     pub fn build(parts: &Parts, mut query: WhatIfQuery) -> ModelPanel {
         let mut errors = FieldErrors::default();
+        let asked = query_typed(&query);
         let typed = !query.supply_voltage_v.trim().is_empty();
         let nominal = parts.supply.as_ref().and_then(|s| s.nominal_voltage_v);
         if !typed && let Some(v) = nominal {
@@ -150,6 +171,7 @@ impl ModelPanel {
             },
         };
         let mut panel = ModelPanel {
+            asked,
             basis: if typed {
                 "at the operating point typed below".into()
             } else if nominal.is_some() {
@@ -191,4 +213,20 @@ impl ModelPanel {
         panel.runaway = report.switch_thermal_runaway;
         panel
     }
+}
+
+/// Whether any what-if field was typed.
+fn query_typed(q: &WhatIfQuery) -> bool {
+    [
+        &q.supply_voltage_v,
+        &q.supply_current_a,
+        &q.frequency_hz,
+        &q.ambient_c,
+        &q.t_tank_capacitor,
+        &q.t_switch,
+        &q.t_work_coil,
+        &q.t_choke,
+    ]
+    .iter()
+    .any(|v| !v.trim().is_empty())
 }

@@ -5,7 +5,7 @@ use std::collections::BTreeMap;
 use serde_json::{Map, Number, Value};
 
 use crate::parts::{Parts, Role};
-use crate::units::{Unit, eng, three_significant};
+use crate::units::{Unit, eng_typed, three_significant};
 use crate::web::forms::{FieldErrors, optional_value};
 
 /// One field of the parts editor: `tank_capacitor.capacitance_f` and how to read it.
@@ -279,7 +279,7 @@ pub fn parts_to_form(parts: &Parts) -> BTreeMap<String, String> {
                     let text = if *key == "awg" {
                         format!("{number}")
                     } else {
-                        eng(number, Unit::Metre).to_string()
+                        eng_typed(number, Unit::Metre)
                     };
                     form.insert(format!("work_coil.conductor_{key}"), text);
                 }
@@ -302,7 +302,7 @@ fn format_for_field(number: f64, spec: &PartField) -> String {
             three_significant(number)
         }
     } else {
-        eng(number, spec.unit).to_string()
+        eng_typed(number, spec.unit)
     }
 }
 

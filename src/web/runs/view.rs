@@ -14,7 +14,7 @@ use crate::charts::{
     render_line_chart,
 };
 use crate::parts::Parts;
-use crate::units::{Unit, eng};
+use crate::units::{Unit, eng, eng_precise};
 
 use crate::web::revisions::model_panel::FlagView;
 use crate::web::view::{maybe, minutes_seconds};
@@ -104,16 +104,24 @@ fn thermal_row(t: &ThermalResult) -> ThermalRow {
         limit: t.limit_c.map(celsius).unwrap_or_else(|| "—".into()),
         limit_basis: basis_text(t.limit_basis),
         margin: t.margin_k.map(kelvin).unwrap_or_else(|| "—".into()),
+        // An untrusted fit shows no number: its caveat says why.
         fit: t
             .fit
             .as_ref()
+            .filter(|f| f.is_trusted())
             .map(|f| {
                 format!(
                     "{:.1} → {:.1} °C, τ {:.0} s, rms {:.2} K",
                     f.t_start_c, f.t_final_c, f.tau_s, f.rmse_k
                 )
             })
-            .unwrap_or_else(|| "—".into()),
+            .unwrap_or_else(|| {
+                if t.fit.is_some() {
+                    "not trusted".into()
+                } else {
+                    "—".into()
+                }
+            }),
         predicted_margin: t
             .predicted_margin_k
             .map(kelvin)
@@ -362,7 +370,10 @@ impl AnalysisView {
             ));
             operating.push((
                 "Frequency (median)".into(),
-                maybe(op.frequency_hz, Unit::Hertz),
+                op.frequency_hz.map_or_else(
+                    || "—".to_string(),
+                    |f| eng_precise(f, Unit::Hertz).to_string(),
+                ),
             ));
             if let Some(ambient) = op.ambient_c {
                 operating.push(("Ambient".into(), format!("{ambient:.1} °C")));
