@@ -13,6 +13,8 @@ use eddybench::secrets::{generate_password, hash_password};
 use eddybench::store::{Store, StoreError, TokenId, UserRole};
 use eddybench::{AppState, app};
 
+mod cli;
+
 /// Eddybench: a build logbook and test-results tracker for self-oscillating induction heaters.
 #[derive(Parser)]
 #[command(version, about, long_about = None)]
@@ -107,6 +109,8 @@ enum Command {
         #[command(flatten)]
         data: DataDir,
     },
+    /// Send readings from bench instruments into an open run (see `feed --help`)
+    Feed(cli::feed::FeedArgs),
     /// Manage API tokens for scripts (a token acts with its user's role)
     Token {
         #[command(subcommand)]
@@ -230,6 +234,7 @@ async fn main() -> anyhow::Result<()> {
             let store = Store::open(&data.path()).await?;
             user_command(&store, command).await
         }
+        Command::Feed(args) => cli::feed::run(args).await,
         Command::Token { command, data } => {
             let store = Store::open(&data.path()).await?;
             token_command(&store, command).await
