@@ -390,7 +390,7 @@ async fn import_command(store: &Store, file: &std::path::Path) -> anyhow::Result
 
 fn model_command(file: &std::path::Path, table: bool) -> anyhow::Result<()> {
     use eddybench::analysis::model_table::{MODEL_CAVEATS, quantity_rows};
-    use eddybench::web::model_api::{ModelRequest, evaluate_request};
+    use eddybench::web::api::model::{ModelRequest, evaluate_request};
     let text = if file.as_os_str() == "-" {
         let mut text = String::new();
         std::io::stdin().read_to_string(&mut text)?;

@@ -12,8 +12,8 @@ use axum::http::{HeaderMap, Method, header};
 use axum::middleware::Next;
 use axum::response::{IntoResponse, Response};
 
-use super::session::{PRE_SESSION_CSRF_COOKIE, Visitor, cookie};
-use super::{AppError, AppState};
+use crate::web::accounts::session::{PRE_SESSION_CSRF_COOKIE, Visitor, cookie};
+use crate::web::{AppError, AppState};
 
 /// Form bodies larger than this are refused before parsing (uploads go by multipart).
 const FORM_LIMIT_BYTES: usize = 256 * 1024;

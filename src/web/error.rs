@@ -115,7 +115,11 @@ pub async fn render(request: Request, next: Next) -> Response {
         let next = urlencode(&path);
         return Redirect::to(&format!("/login?next={next}")).into_response();
     }
-    (status, Html(super::chrome::error_page(status, &body.error))).into_response()
+    (
+        status,
+        Html(crate::web::chrome::error_page(status, &body.error)),
+    )
+        .into_response()
 }
 
 /// An error status with no body of ours: empty or axum's plain-text rejection.

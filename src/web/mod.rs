@@ -1,33 +1,22 @@
-//! Pages, the JSON API and their middleware. Each area has its own `router()`; `app` merges them.
+//! Pages, the JSON API and their middleware. One folder per resource (its routes, handlers and
+//! view types together), each with its own `router()`; `app` merges them. The files at this level
+//! are shared by every area: errors, CSRF, security headers, the route table, page chrome.
 
-mod account;
-mod api;
-mod api_logbook;
+mod accounts;
+pub mod api;
 mod attachments;
-mod auth;
-mod build_view;
 mod builds;
 mod chrome;
 pub mod compare;
 mod csrf;
-mod digests;
 mod error;
-mod export;
 mod forms;
-pub mod model_api;
-mod model_panel;
 mod reader;
-mod readings_import;
 mod revisions;
 mod routes;
-mod run_analysis;
-mod run_entry;
-mod run_page;
-mod run_view;
 mod runs;
 mod security;
-mod session;
-mod share;
+mod shares;
 mod view;
 
 use std::sync::Arc;
@@ -40,10 +29,10 @@ use tower_http::services::ServeDir;
 use crate::config::Config;
 use crate::store::Store;
 
+pub use accounts::session::CurrentUser;
 pub use error::{AppError, Result};
 use routes::Routes;
 pub use routes::{Access, RouteInfo};
-pub use session::CurrentUser;
 
 /// Everything a handler may need, passed with `State`.
 #[derive(Clone)]
@@ -64,18 +53,19 @@ const REQUEST_BODY_LIMIT_BYTES: usize = 1024 * 1024;
 /// Every area's routes, with the access each allows.
 fn all_routes() -> Routes {
     Routes::new()
-        .merge(account::router())
-        .merge(auth::router())
+        .merge(accounts::account::router())
+        .merge(accounts::auth::router())
         .merge(builds::router())
         .merge(compare::router())
         .merge(revisions::router())
         .merge(runs::router())
-        .merge(run_analysis::router())
+        .merge(runs::analysis::router())
         .merge(attachments::router())
-        .merge(model_api::router())
-        .merge(api_logbook::router())
-        .merge(export::router())
-        .merge(share::router())
+        .merge(api::builds::router())
+        .merge(api::model::router())
+        .merge(api::logbook::router())
+        .merge(builds::export::router())
+        .merge(shares::router())
         .get("/healthz", Access::Public, healthz)
 }
 
@@ -95,7 +85,10 @@ pub fn app(state: AppState) -> Router {
             REQUEST_BODY_LIMIT_BYTES,
         ))
         .layer(middleware::from_fn_with_state(state.clone(), csrf::guard))
-        .layer(middleware::from_fn_with_state(state.clone(), session::load))
+        .layer(middleware::from_fn_with_state(
+            state.clone(),
+            accounts::session::load,
+        ))
         .layer(middleware::from_fn(error::render))
         .layer(middleware::from_fn_with_state(
             state.clone(),

@@ -5,11 +5,11 @@
 use axum::extract::FromRequestParts;
 use axum::http::request::Parts;
 
-use super::chrome::Chrome;
-use super::session::CurrentUser;
-use super::{AppError, AppState, Result};
 use crate::secrets::token_hash;
 use crate::store::{Build, SessionUser, Share};
+use crate::web::accounts::session::CurrentUser;
+use crate::web::chrome::Chrome;
+use crate::web::{AppError, AppState, Result};
 
 /// The path prefix of share pages.
 pub const SHARE_PREFIX: &str = "/s/";

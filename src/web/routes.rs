@@ -7,7 +7,7 @@ use axum::handler::Handler;
 use axum::http::Method;
 use axum::routing::{delete, get, post};
 
-use super::AppState;
+use crate::web::AppState;
 
 /// Who a route is for (the least access that may succeed).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]

@@ -5,7 +5,7 @@ use axum::http::{HeaderName, HeaderValue, header};
 use axum::middleware::Next;
 use axum::response::Response;
 
-use super::AppState;
+use crate::web::AppState;
 
 /// No inline script or style, nothing from other origins, no framing, no plugins.
 const CONTENT_SECURITY_POLICY: &str = "default-src 'self'; script-src 'self'; style-src 'self'; \
@@ -16,7 +16,7 @@ pub async fn headers(State(state): State<AppState>, request: Request, next: Next
     let request_path_is_share = request
         .uri()
         .path()
-        .starts_with(super::reader::SHARE_PREFIX);
+        .starts_with(crate::web::reader::SHARE_PREFIX);
     let mut response = next.run(request).await;
     let headers = response.headers_mut();
     let set = |headers: &mut axum::http::HeaderMap, name, value: &'static str| {

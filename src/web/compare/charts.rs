@@ -2,13 +2,13 @@
 //! tank-capacitor margin of each run, by run number within its revision, and the tank
 //! capacitor's temperature over each revision's latest run. Pure: data in, SVG out.
 
-use super::super::run_view::ChartView;
 use super::measured::RevisionRuns;
 use crate::charts::{
     AxisFormat, LineChart, Marker, Series, SeriesStyle, Threshold, chart_table_rows,
     render_line_chart,
 };
 use crate::parts::Role;
+use crate::web::runs::view::ChartView;
 
 const MARKERS: [Marker; 4] = [
     Marker::Circle,

@@ -23,13 +23,6 @@ use self::measured::{RevisionRuns, measured_rows};
 use self::model_rows::{default_supply_v, model_rows};
 use self::parts_diff::StepDiff;
 use self::rows::CompareRow;
-use super::chrome::Chrome;
-use super::digests::digests_of;
-use super::forms::FieldErrors;
-use super::reader::Reader;
-use super::routes::{Access, Routes};
-use super::run_analysis::analysis_readings;
-use super::{AppError, AppState, Result};
 use crate::analysis::model::{OperatingPoint, validate};
 use crate::analysis::model_table::MODEL_CAVEATS;
 use crate::analysis::run_summary::RunDigest;
@@ -38,6 +31,13 @@ use crate::channel::Channel;
 use crate::parts::{Parts, Role};
 use crate::store::{Build, Outcome, Revision, Run, Store};
 use crate::units::{Unit, eng, parse_value};
+use crate::web::chrome::Chrome;
+use crate::web::forms::FieldErrors;
+use crate::web::reader::Reader;
+use crate::web::routes::{Access, Routes};
+use crate::web::runs::analysis::analysis_readings;
+use crate::web::runs::digests::digests_of;
+use crate::web::{AppError, AppState, Result};
 
 /// How many revisions one comparison may hold: more no longer reads as rows on a phone.
 pub const MAX_COMPARED: usize = 4;

@@ -4,9 +4,9 @@
 
 use serde_json::Value;
 
-use super::super::forms::{EDITOR_ROLES, PART_FIELDS, PartField};
 use crate::parts::{Conductor, OtherPart, Parts, Role};
 use crate::units::{Unit, eng};
+use crate::web::revisions::part_fields::{EDITOR_ROLES, PART_FIELDS, PartField};
 
 /// How one row differs between the earlier and the later revision.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

@@ -7,13 +7,6 @@ use askama_web::WebTemplate;
 use axum::extract::{Path, Query, State};
 use serde::Deserialize;
 
-use super::super::build_view::{BuildHealth, build_charts, build_health};
-use super::super::chrome::Chrome;
-use super::super::digests::digests_of;
-use super::super::reader::Reader;
-use super::super::revisions::{PartView, part_views};
-use super::super::view::{RunLine, date_time};
-use super::super::{AppError, AppState, Result};
 use super::charts::Figure;
 use super::measured::METHODS;
 use super::runs_oldest_first;
@@ -22,6 +15,13 @@ use crate::analysis::run_summary::RunDigest;
 use crate::parts::Role;
 use crate::store::{Build, Revision, Run, now_unix_s};
 use crate::units::{Unit, eng};
+use crate::web::builds::view::{BuildHealth, build_charts, build_health};
+use crate::web::chrome::Chrome;
+use crate::web::reader::Reader;
+use crate::web::revisions::{PartView, part_views};
+use crate::web::runs::digests::digests_of;
+use crate::web::view::{RunLine, date_time};
+use crate::web::{AppError, AppState, Result};
 
 /// What the report says about working on these heaters, always (the README's Safety section).
 pub const SAFETY_CAUTIONS: &[(&str, &str)] = &[

@@ -4,11 +4,11 @@
 use axum::Json;
 use serde::{Deserialize, Serialize};
 
-use super::api::ApiJson;
-use super::routes::{Access, Routes};
-use super::{AppError, Result};
 use crate::analysis::model::{ModelReport, OperatingPoint, evaluate, validate};
 use crate::parts::Parts;
+use crate::web::api::ApiJson;
+use crate::web::routes::{Access, Routes};
+use crate::web::{AppError, Result};
 
 pub fn router() -> Routes {
     Routes::new().post("/api/v1/model", Access::Public, model)

@@ -11,19 +11,19 @@ use axum::response::{IntoResponse, Redirect, Response};
 use axum::routing::post;
 use serde::{Deserialize, Serialize};
 
-use super::api::ApiJson;
-use super::error::{ErrorBody, urlencode};
-use super::readings_import::{ImportError, RowCheck, import_csv, json_rows};
-use super::routes::{Access, Routes};
-use super::runs::{LOADS, channels_of, default_channels};
-use super::session::{CurrentUser, Editor};
-use super::{AppError, AppState, Result};
 use crate::analysis::{OperatingPoint, validate};
 use crate::channel::Channel;
 use crate::parts::Parts;
 use crate::store::{
     Build, NewBuild, NewRun, Outcome, Revision, Run, RunFinish, RunId, revision_number,
 };
+use crate::web::accounts::session::{CurrentUser, Editor};
+use crate::web::api::ApiJson;
+use crate::web::error::{ErrorBody, urlencode};
+use crate::web::routes::{Access, Routes};
+use crate::web::runs::lookup::{LOADS, channels_of, default_channels};
+use crate::web::runs::readings_import::{ImportError, RowCheck, import_csv, json_rows};
+use crate::web::{AppError, AppState, Result};
 
 /// JSON bodies are read whole; a CSV body streams and may be much larger.
 const JSON_LIMIT_BYTES: usize = 32 * 1024 * 1024;
@@ -546,7 +546,7 @@ async fn finish_run(
             },
         )
         .await?;
-    super::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
+    crate::web::runs::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
     let run = state.store.run_by_id(run.id).await?;
     Ok(Json(run_json(&state, &build, run).await?))
 }

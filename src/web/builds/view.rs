@@ -13,8 +13,8 @@ use crate::charts::{
 };
 use crate::parts::Role;
 
-use super::run_view::ChartView;
-use super::view::duration_text;
+use crate::web::runs::view::ChartView;
+use crate::web::view::duration_text;
 
 /// One part's standing, in words and numbers.
 pub struct PartHealth {

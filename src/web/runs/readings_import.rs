@@ -15,10 +15,10 @@ use serde::de::{DeserializeSeed, IgnoredAny, SeqAccess, Visitor};
 use serde::{Deserializer, Serialize};
 use serde_json::Value;
 
-use super::AppError;
 use crate::channel::Channel;
 use crate::parts::Parts;
 use crate::store::{NewReading, ReadingsImport, StoreError};
+use crate::web::AppError;
 
 /// Rows collected before they are written: the size of one multi-row INSERT.
 const BATCH_ROWS: usize = 500;

@@ -5,11 +5,11 @@ use axum::extract::{Path, State};
 use axum::http::header;
 use axum::response::{IntoResponse, Response};
 
-use super::routes::{Access, Routes};
-use super::session::CurrentUser;
-use super::{AppError, AppState, Result};
 use crate::export::BuildDocument;
 use crate::export::tables::{Table, write_table};
+use crate::web::accounts::session::CurrentUser;
+use crate::web::routes::{Access, Routes};
+use crate::web::{AppError, AppState, Result};
 
 pub fn router() -> Routes {
     Routes::new()

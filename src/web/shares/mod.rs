@@ -10,16 +10,16 @@ use axum::response::{IntoResponse, Redirect, Response};
 use axum::{Form, Json};
 use serde::{Deserialize, Serialize};
 
-use super::api::ApiJson;
-use super::chrome::Chrome;
-use super::csrf::expected_origin;
-use super::reader::SHARE_PREFIX;
-use super::routes::{Access, Routes};
-use super::session::{CurrentUser, Editor};
-use super::view::date_time;
-use super::{AppError, AppState, Result};
 use crate::secrets::{random_token, token_hash};
 use crate::store::{Build, NewShare, SessionUser, Share, ShareId, now_unix_s, revision_number};
+use crate::web::accounts::session::Editor;
+use crate::web::api::ApiJson;
+use crate::web::chrome::Chrome;
+use crate::web::csrf::expected_origin;
+use crate::web::reader::SHARE_PREFIX;
+use crate::web::routes::{Access, Routes};
+use crate::web::view::date_time;
+use crate::web::{AppError, AppState, Result};
 
 pub fn router() -> Routes {
     Routes::new()
@@ -32,7 +32,6 @@ pub fn router() -> Routes {
         .post("/api/v1/builds/{slug}/shares", Access::Editor, create_api)
         .get("/api/v1/builds/{slug}/shares", Access::Editor, list_api)
         .delete("/api/v1/shares/{id}", Access::Editor, revoke_api)
-        .get("/api/v1/builds", Access::Viewer, builds_api)
 }
 
 /// Longest life of a link, and of its label.
@@ -314,33 +313,4 @@ async fn revoke_api(
     let build = state.store.build_by_id(share.build_id).await?;
     revoke(&state, &user, &build, &share).await?;
     Ok(StatusCode::NO_CONTENT)
-}
-
-#[derive(Serialize)]
-struct BuildJson {
-    slug: String,
-    name: String,
-    purpose: String,
-    latest_revision: Option<String>,
-    runs: i64,
-}
-
-/// The builds a token (or session) may read: every build of this instance.
-async fn builds_api(
-    State(state): State<AppState>,
-    CurrentUser(_user): CurrentUser,
-) -> Result<Json<Vec<BuildJson>>> {
-    let builds = state.store.list_builds().await?;
-    Ok(Json(
-        builds
-            .into_iter()
-            .map(|b| BuildJson {
-                slug: b.slug,
-                name: b.name,
-                purpose: b.purpose,
-                latest_revision: b.latest_revision.map(|n| format!("r{n}")),
-                runs: b.run_count,
-            })
-            .collect(),
-    ))
 }

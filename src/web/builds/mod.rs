@@ -1,5 +1,8 @@
 //! The builds list, a new build, and a build's page.
 
+pub mod export;
+pub mod view;
+
 use askama::Template;
 use askama_web::WebTemplate;
 use axum::Form;
@@ -7,19 +10,19 @@ use axum::extract::{Path, State};
 use axum::response::{IntoResponse, Redirect, Response};
 use serde::Deserialize;
 
-use super::build_view::{BuildHealth, build_charts, build_health};
-use super::chrome::Chrome;
-use super::digests::digests_of;
-use super::forms::FieldErrors;
-use super::reader::Reader;
-use super::routes::{Access, Routes};
-use super::run_view::ChartView;
-use super::session::{CurrentUser, Editor};
-use super::share::{ShareLine, share_lines};
-use super::view::{RunLine, date_time};
-use super::{AppState, Result};
 use crate::analysis::run_summary::RunDigest;
 use crate::store::{Build, BuildSummary, NewBuild, Revision, Run};
+use crate::web::accounts::session::{CurrentUser, Editor};
+use crate::web::builds::view::{BuildHealth, build_charts, build_health};
+use crate::web::chrome::Chrome;
+use crate::web::forms::FieldErrors;
+use crate::web::reader::Reader;
+use crate::web::routes::{Access, Routes};
+use crate::web::runs::digests::digests_of;
+use crate::web::runs::view::ChartView;
+use crate::web::shares::{ShareLine, share_lines};
+use crate::web::view::{RunLine, date_time};
+use crate::web::{AppState, Result};
 
 pub fn router() -> Routes {
     Routes::new()

@@ -1,10 +1,14 @@
 //! The JSON API under `/api/v1`.
 
+pub mod builds;
+pub mod logbook;
+pub mod model;
+
 use axum::extract::rejection::JsonRejection;
 use axum::extract::{FromRequest, Request};
 use serde::de::DeserializeOwned;
 
-use super::AppError;
+use crate::web::AppError;
 
 /// `Json` whose rejections are our 422 JSON error, naming the field where serde can.
 pub struct ApiJson<T>(pub T);

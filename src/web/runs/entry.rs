@@ -6,42 +6,14 @@ use axum::extract::{Path, State};
 use axum::response::{IntoResponse, Redirect, Response};
 use serde::Deserialize;
 
-use super::session::Editor;
-use super::{AppError, AppState, Result};
-use crate::channel::{Channel, Quantity};
+use crate::channel::Channel;
 use crate::store::{NewReading, Outcome, ReadingId, RunFinish, now_unix_s};
-use crate::units::{Unit, parse_elapsed_s, parse_value};
+use crate::units::parse_elapsed_s;
+use crate::web::accounts::session::Editor;
+use crate::web::{AppError, AppState, Result};
 
-use super::runs::{build_and_run, channels_of};
-
-/// What a bare number in an entry field means: the frequency field takes kHz (the numeric
-/// keyboard of a phone has no `k`, and no driver of this kind runs below a few kHz); every other
-/// field its SI unit. Typed units and prefixes always win: `152k`, `152000 Hz`.
-pub(super) fn parse_entry(channel: Channel, text: &str) -> Result<f64, crate::units::UnitError> {
-    let bare = text.trim().replace(',', ".").parse::<f64>().is_ok();
-    let value = parse_value(text, unit_for(channel.quantity()))?;
-    Ok(if bare && channel == Channel::Frequency {
-        value * 1e3
-    } else {
-        value
-    })
-}
-
-pub(super) fn entry_unit(channel: Channel) -> &'static str {
-    match channel {
-        Channel::Frequency => "kHz",
-        other => other.quantity().unit(),
-    }
-}
-
-pub(super) fn unit_for(quantity: Quantity) -> Unit {
-    match quantity {
-        Quantity::Voltage => Unit::Volt,
-        Quantity::Current => Unit::Ampere,
-        Quantity::Frequency => Unit::Hertz,
-        Quantity::Temperature => Unit::Celsius,
-    }
-}
+use super::entry_units::parse_entry;
+use super::lookup::{build_and_run, channels_of};
 
 #[derive(Deserialize)]
 pub(super) struct ReadingForm {
@@ -54,8 +26,8 @@ pub(super) struct ReadingForm {
 /// Back to the run page with a message beside the field (the page keeps no typed values, so
 /// the message says what was wrong and the user types again).
 fn back_with_error(slug: &str, id: i64, channel: &str, message: &str) -> Response {
-    let message = super::error::urlencode(message);
-    let channel = super::error::urlencode(channel);
+    let message = crate::web::error::urlencode(message);
+    let channel = crate::web::error::urlencode(channel);
     Redirect::to(&format!(
         "/builds/{slug}/runs/{id}?error={message}&channel={channel}#entry-{channel}"
     ))
@@ -215,32 +187,6 @@ pub(super) async fn finish(
             },
         )
         .await?;
-    super::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
+    crate::web::runs::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}")).into_response())
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn a_bare_frequency_is_khz_and_typed_units_win() {
-        for (text, hz) in [
-            ("152", 152e3),
-            ("152,5", 152.5e3),
-            ("152k", 152e3),
-            ("152000 Hz", 152e3),
-            ("0.15 MHz", 150e3),
-        ] {
-            let got = parse_entry(Channel::Frequency, text).unwrap();
-            assert!((got - hz).abs() < 1e-6, "{text}: {got}");
-        }
-        assert_eq!(
-            parse_entry(Channel::SupplyCurrent, "3").unwrap(),
-            3.0,
-            "other channels keep SI"
-        );
-        assert!(parse_entry(Channel::Frequency, "fast").is_err());
-        assert_eq!(entry_unit(Channel::Frequency), "kHz");
-    }
 }

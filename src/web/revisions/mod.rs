@@ -1,5 +1,8 @@
 //! A revision's page, and a new revision made by copying one and editing its parts.
 
+pub mod model_panel;
+pub mod part_fields;
+
 use std::collections::BTreeMap;
 
 use askama::Template;
@@ -9,20 +12,21 @@ use axum::extract::{Path, Query, State};
 use axum::response::{IntoResponse, Redirect, Response};
 use serde::Deserialize;
 
-use super::chrome::Chrome;
-use super::forms::{
-    CONDUCTOR_FIELDS, EDITOR_ROLES, FieldErrors, PART_FIELDS, PartField, field_name,
-    parts_from_form, parts_to_form,
-};
-use super::model_panel::{ModelPanel, WhatIfQuery};
-use super::reader::Reader;
-use super::routes::{Access, Routes};
-use super::session::Editor;
-use super::view::date_time;
-use super::{AppError, AppState, Result};
 use crate::parts::{Parts, Role};
 use crate::store::{Build, Revision, revision_number};
 use crate::units::{Unit, eng};
+use crate::web::accounts::session::Editor;
+use crate::web::chrome::Chrome;
+use crate::web::forms::FieldErrors;
+use crate::web::reader::Reader;
+use crate::web::routes::{Access, Routes};
+use crate::web::view::date_time;
+use crate::web::{AppError, AppState, Result};
+use model_panel::{ModelPanel, WhatIfQuery};
+use part_fields::{
+    CONDUCTOR_FIELDS, EDITOR_ROLES, PART_FIELDS, PartField, field_name, parts_from_form,
+    parts_to_form,
+};
 
 pub fn router() -> Routes {
     Routes::new()

@@ -9,13 +9,13 @@ use axum::http::{HeaderMap, StatusCode};
 use axum::response::{IntoResponse, Response};
 use serde::Deserialize;
 
-use super::chrome::Chrome;
-use super::forms::FieldErrors;
-use super::routes::{Access, Routes};
-use super::session::{Admin, CurrentUser, SESSION_COOKIE, cookie};
-use super::{AppError, AppState, Result};
 use crate::secrets::{generate_password, hash_password, token_hash, verify_password};
 use crate::store::{User, UserRole};
+use crate::web::accounts::session::{Admin, CurrentUser, SESSION_COOKIE, cookie};
+use crate::web::chrome::Chrome;
+use crate::web::forms::FieldErrors;
+use crate::web::routes::{Access, Routes};
+use crate::web::{AppError, AppState, Result};
 
 pub fn router() -> Routes {
     Routes::new()

@@ -4,12 +4,12 @@
 
 use serde::Deserialize;
 
-use super::forms::{FieldErrors, optional_value};
 use crate::analysis::flags::Flag;
 use crate::analysis::model::{OperatingPoint, PartTemperatures, evaluate, validate};
 use crate::analysis::model_table::{MODEL_CAVEATS, quantity_rows};
 use crate::parts::Parts;
 use crate::units::Unit;
+use crate::web::forms::{FieldErrors, optional_value};
 
 /// The what-if fields as typed (units and prefixes allowed).
 #[derive(Debug, Clone, Default, Deserialize)]

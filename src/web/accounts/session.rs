@@ -8,10 +8,10 @@ use axum::http::{HeaderMap, StatusCode, header};
 use axum::middleware::Next;
 use axum::response::{IntoResponse, Response};
 
-use super::error::ErrorBody;
-use super::{AppError, AppState};
 use crate::secrets::token_hash;
 use crate::store::{SessionUser, UserRole};
+use crate::web::error::ErrorBody;
+use crate::web::{AppError, AppState};
 
 pub const SESSION_COOKIE: &str = "eb_session";
 /// The token a form must echo before there is a session (the login form).

@@ -5,18 +5,18 @@ use askama_web::WebTemplate;
 use axum::extract::{Path, Query, State};
 use serde::Deserialize;
 
-use super::chrome::Chrome;
-use super::reader::Reader;
-use super::run_analysis::{analyse_stored_run, analysis_readings};
-use super::run_view::AnalysisView;
-use super::view::{date_time, load_title, maybe, minutes_seconds};
-use super::{AppState, Result};
 use crate::channel::Channel;
 use crate::store::{Build, Outcome, Run, now_unix_s};
 use crate::units::Unit;
+use crate::web::chrome::Chrome;
+use crate::web::reader::Reader;
+use crate::web::runs::analysis::{analyse_stored_run, analysis_readings};
+use crate::web::runs::view::AnalysisView;
+use crate::web::view::{date_time, load_title, maybe, minutes_seconds};
+use crate::web::{AppState, Result};
 
-use super::run_entry::{entry_unit, unit_for};
-use super::runs::{RECENT_READINGS, channels_of, reader_build_and_run};
+use super::entry_units::{entry_unit, unit_for};
+use super::lookup::{RECENT_READINGS, channels_of, reader_build_and_run};
 
 #[derive(Template, WebTemplate)]
 #[template(path = "runs/show.html")]
@@ -41,7 +41,7 @@ pub(super) struct ShowPage {
     error: String,
     error_channel: String,
     analysis: AnalysisView,
-    attachments: Vec<super::attachments::AttachmentView>,
+    attachments: Vec<crate::web::attachments::AttachmentView>,
 }
 
 /// One big field and an "add" button per channel in use.
@@ -185,7 +185,7 @@ pub(super) async fn show(
         error: query.error.chars().take(200).collect(),
         error_channel: query.channel,
         analysis,
-        attachments: super::attachments::views_of_run(
+        attachments: crate::web::attachments::views_of_run(
             &state,
             &reader.chrome("", &build).base,
             &run,

@@ -11,18 +11,18 @@ use axum::http::{HeaderMap, HeaderValue, StatusCode, header};
 use axum::response::{IntoResponse, Redirect, Response};
 use axum::routing::post;
 
-use super::chrome::Chrome;
-use super::forms::FieldErrors;
-use super::reader::Reader;
-use super::routes::{Access, Routes};
-use super::runs::{build_and_run, reader_build_and_run};
-use super::session::Editor;
-use super::view::date_time;
-use super::{AppError, AppState, Result};
 use crate::store::{
     Attachment, AttachmentFiles, AttachmentId, AttachmentKind, Build, NewAttachment, Run,
     SessionUser,
 };
+use crate::web::accounts::session::Editor;
+use crate::web::chrome::Chrome;
+use crate::web::forms::FieldErrors;
+use crate::web::reader::Reader;
+use crate::web::routes::{Access, Routes};
+use crate::web::runs::lookup::{build_and_run, reader_build_and_run};
+use crate::web::view::date_time;
+use crate::web::{AppError, AppState, Result};
 use media::{ImageType, Refusal, THUMBNAIL_PX};
 
 pub fn router() -> Routes {

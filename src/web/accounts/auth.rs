@@ -8,11 +8,13 @@ use axum::http::header;
 use axum::response::{AppendHeaders, IntoResponse, Redirect, Response};
 use serde::Deserialize;
 
-use super::chrome::Chrome;
-use super::routes::{Access, Routes};
-use super::session::{PRE_SESSION_CSRF_COOKIE, SESSION_COOKIE, Visitor, cookie, set_cookie};
-use super::{AppError, AppState, Result};
 use crate::secrets::{decoy_hash, random_token, token_hash, verify_password};
+use crate::web::accounts::session::{
+    PRE_SESSION_CSRF_COOKIE, SESSION_COOKIE, Visitor, cookie, set_cookie,
+};
+use crate::web::chrome::Chrome;
+use crate::web::routes::{Access, Routes};
+use crate::web::{AppError, AppState, Result};
 
 pub fn router() -> Routes {
     Routes::new()

@@ -3,10 +3,10 @@
 
 use std::collections::HashMap;
 
-use super::run_analysis::{analyse_stored_run, analysis_readings};
-use super::{AppError, Result};
 use crate::analysis::run_summary::{RunDigest, SUMMARY_VERSION, digest_run};
 use crate::store::{Build, Revision, Run, Store};
+use crate::web::runs::analysis::{analyse_stored_run, analysis_readings};
+use crate::web::{AppError, Result};
 
 /// Digests of the given runs of a build, in the runs' order.
 pub async fn digests_of(

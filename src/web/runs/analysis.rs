@@ -4,15 +4,15 @@
 use axum::Json;
 use axum::extract::{Path, State};
 
-use super::routes::{Access, Routes};
-use super::session::CurrentUser;
-use super::{AppState, Result};
 use crate::analysis::efficiency::{IDLE_SUPPLY_TOLERANCE, IdleReference};
 use crate::analysis::operating_point::operating_point;
 use crate::analysis::reading::Reading;
 use crate::analysis::run::{Load, RunAnalysis, RunInput, analyse_run};
 use crate::channel::Channel;
 use crate::store::{Revision, Run, RunId, Store};
+use crate::web::accounts::session::CurrentUser;
+use crate::web::routes::{Access, Routes};
+use crate::web::{AppState, Result};
 
 pub fn router() -> Routes {
     Routes::new().get("/api/v1/runs/{id}/analysis", Access::Viewer, analysis_json)

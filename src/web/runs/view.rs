@@ -16,8 +16,8 @@ use crate::charts::{
 use crate::parts::Parts;
 use crate::units::{Unit, eng};
 
-use super::model_panel::FlagView;
-use super::view::{maybe, minutes_seconds};
+use crate::web::revisions::model_panel::FlagView;
+use crate::web::view::{maybe, minutes_seconds};
 
 pub struct ThermalRow {
     pub channel: String,

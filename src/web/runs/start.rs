@@ -1,4 +1,4 @@
-//! Runs from the browser: start one, log readings at the bench, correct them, finish it.
+//! Starting a run from the browser: the new-run form, prefilled from the revision's last run.
 
 use askama::Template;
 use askama_web::WebTemplate;
@@ -8,129 +8,17 @@ use axum::http::StatusCode;
 use axum::response::{IntoResponse, Redirect, Response};
 use serde::Deserialize;
 
-use super::chrome::Chrome;
-use super::forms::{FieldErrors, optional_value};
-use super::reader::Reader;
-use super::revisions::find_revision;
-use super::routes::{Access, Routes};
-use super::session::Editor;
-use super::view::date_time;
-use super::{AppError, AppState, Result};
-use super::{run_entry, run_page};
+use super::lookup::{LOADS, channels_of, default_channels};
 use crate::channel::Channel;
-use crate::parts::{Parts, Role};
-use crate::store::{Build, NewRun, Revision, Run, RunId};
+use crate::parts::Parts;
+use crate::store::{Build, NewRun, Revision, Run};
 use crate::units::Unit;
-
-pub fn router() -> Routes {
-    Routes::new()
-        .post("/builds/{slug}/runs", Access::Editor, create)
-        .get("/builds/{slug}/runs/new", Access::Editor, new_form)
-        .get("/builds/{slug}/runs/{id}", Access::Viewer, run_page::show)
-        .get("/s/{slug}/runs/{id}", Access::Share, run_page::show)
-        .post(
-            "/builds/{slug}/runs/{id}/readings",
-            Access::Editor,
-            run_entry::add_reading,
-        )
-        .post(
-            "/builds/{slug}/runs/{id}/readings/{reading}/correct",
-            Access::Editor,
-            run_entry::correct_reading,
-        )
-        .post(
-            "/builds/{slug}/runs/{id}/finish",
-            Access::Editor,
-            run_entry::finish,
-        )
-}
-
-/// Readings shown at once on an open run's page, newest first; the rest fold away.
-pub(super) const RECENT_READINGS: usize = 20;
-
-pub const LOADS: [&str; 4] = ["none", "ferrous", "non_ferrous", "water"];
-
-/// Every channel a revision can log: the electrical ones, then each part's temperature (the
-/// role as a whole, and each unit where a role has several).
-pub fn channels_of(parts: &Parts) -> Vec<Channel> {
-    let mut channels = vec![
-        Channel::SupplyVoltage,
-        Channel::SupplyCurrent,
-        Channel::Frequency,
-        Channel::TankVoltage,
-        Channel::AmbientTemp,
-        Channel::WaterTemp,
-    ];
-    for role in [
-        Role::TankCapacitor,
-        Role::Switch,
-        Role::WorkCoil,
-        Role::Choke,
-        Role::GateResistor,
-    ] {
-        let quantity = parts.quantity(role);
-        if quantity == 0 {
-            continue;
-        }
-        channels.push(Channel::PartTemp { role, index: None });
-        if quantity > 1 {
-            channels.extend((1..=quantity.min(12)).map(|n| Channel::PartTemp {
-                role,
-                index: Some(n),
-            }));
-        }
-    }
-    channels
-}
-
-/// What a first run of a revision logs unless the operator says otherwise.
-pub fn default_channels(parts: &Parts, load: &str) -> Vec<String> {
-    let mut names = vec![
-        "supply_voltage".to_string(),
-        "supply_current".into(),
-        "frequency".into(),
-        "ambient_temp".into(),
-    ];
-    if load == "water" {
-        names.push("water_temp".into());
-    }
-    for role in [
-        Role::TankCapacitor,
-        Role::Switch,
-        Role::WorkCoil,
-        Role::Choke,
-    ] {
-        if parts.quantity(role) > 0 {
-            names.push(format!("temp.{}", role.key()));
-        }
-    }
-    names
-}
-
-pub(super) async fn build_and_run(state: &AppState, slug: &str, id: i64) -> Result<(Build, Run)> {
-    let build = state.store.build_by_slug(slug).await?;
-    let run = state.store.run_by_id(RunId(id)).await?;
-    if run.build_id != build.id {
-        return Err(AppError::NotFound);
-    }
-    Ok((build, run))
-}
-
-/// The build and run of a read page, for a user or a share (limited to its revision).
-pub(super) async fn reader_build_and_run(
-    state: &AppState,
-    reader: &Reader,
-    slug: &str,
-    id: i64,
-) -> Result<(Build, Run)> {
-    let build = reader.build(state, slug).await?;
-    let run = state.store.run_by_id(RunId(id)).await?;
-    if run.build_id != build.id {
-        return Err(AppError::NotFound);
-    }
-    reader.check_revision(run.revision_number)?;
-    Ok((build, run))
-}
+use crate::web::accounts::session::Editor;
+use crate::web::chrome::Chrome;
+use crate::web::forms::{FieldErrors, optional_value};
+use crate::web::revisions::find_revision;
+use crate::web::view::date_time;
+use crate::web::{AppState, Result};
 
 #[derive(Template, WebTemplate)]
 #[template(path = "runs/new.html")]
@@ -169,11 +57,11 @@ struct RunForm {
 }
 
 #[derive(Deserialize)]
-struct RevisionQuery {
+pub(super) struct RevisionQuery {
     revision: Option<String>,
 }
 
-async fn new_form(
+pub(super) async fn new_form(
     State(state): State<AppState>,
     Editor(user): Editor,
     Path(slug): Path<String>,
@@ -258,7 +146,7 @@ fn choices(parts: &Parts, in_use: &[String]) -> Vec<ChannelChoice> {
         .collect()
 }
 
-async fn create(
+pub(super) async fn create(
     State(state): State<AppState>,
     Editor(user): Editor,
     Path(slug): Path<String>,
