@@ -110,6 +110,7 @@ enum Command {
         data: DataDir,
     },
     /// Send readings from bench instruments into an open run (see `feed --help`)
+    #[command(long_about = cli::feed::LONG_ABOUT)]
     Feed(cli::feed::FeedArgs),
     /// Manage API tokens for scripts (a token acts with its user's role)
     Token {

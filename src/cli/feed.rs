@@ -7,16 +7,18 @@ use anyhow::Context;
 use eddybench::feed::config::read_config;
 use eddybench::feed::{Ended, FeedOptions, STOP_SWITCH_CAUTION, check, feed};
 
-/// Send readings from bench instruments (SCPI supplies and meters, serial loggers, files,
-/// standard input) into an open run. Readings wait in a queue on disk until the server has
-/// stored them, so an outage or a restart loses none and sends none twice.
-///
-/// With `stop_supply = true` on a SCPI supply, the feeder sends the supply's output-off command
-/// when a part reaches its limit or is predicted to within `stop_within_s`. THIS IS A
-/// CONVENIENCE, NOT A SAFETY SYSTEM: it needs the network, the server, fresh readings and a
-/// supply that obeys. Keep a hand on the supply's own switch.
+/// What `eddybench feed --help` says above the options.
+pub const LONG_ABOUT: &str = "Send readings from bench instruments (SCPI supplies and meters, \
+serial loggers, files, standard input) into an open run. Readings wait in a queue on disk until \
+the server has stored them, so an outage or a restart loses none and sends none twice.
+
+With `stop_supply = true` on a SCPI supply, the feeder sends the supply's output-off command \
+when a part reaches its limit or is predicted to within `stop_within_s`. THIS IS A CONVENIENCE, \
+NOT A SAFETY SYSTEM: it needs the network, the server, fresh readings and a supply that obeys. \
+Keep a hand on the supply's own switch.";
+
+/// The options of `eddybench feed`.
 #[derive(clap::Args)]
-#[command(verbatim_doc_comment)]
 pub struct FeedArgs {
     /// The Eddybench server, e.g. http://192.0.2.5:8080
     #[arg(long, required_unless_present = "check")]
