@@ -80,7 +80,8 @@ pub async fn run(args: FeedArgs) -> anyhow::Result<()> {
             eprintln!("Run {run} was finished at {at}; the feeder stops.");
             if waiting > 0 {
                 eprintln!(
-                    "{waiting} readings were not stored; they stay in {}.",
+                    "{} not stored; kept in {}.",
+                    readings(waiting),
                     queue_dir.display()
                 );
             }
@@ -89,7 +90,8 @@ pub async fn run(args: FeedArgs) -> anyhow::Result<()> {
         Ended::Stopped => {
             if waiting > 0 {
                 eprintln!(
-                    "Stopped. {waiting} readings wait in {} and are sent when the feeder is started again for run {run}.",
+                    "Stopped. {} wait in {} and are sent when the feeder is started again for run {run}.",
+                    readings(waiting),
                     queue_dir.display()
                 );
             } else {
@@ -98,5 +100,12 @@ pub async fn run(args: FeedArgs) -> anyhow::Result<()> {
             Ok(())
         }
         Ended::Failed(why) => anyhow::bail!("{why}"),
+    }
+}
+
+fn readings(count: usize) -> String {
+    match count {
+        1 => "1 reading".into(),
+        n => format!("{n} readings"),
     }
 }

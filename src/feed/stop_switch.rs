@@ -33,7 +33,7 @@ pub struct LiveState {
 }
 
 /// Why the supply must go off now, if it must: the first part at or over its limit, else the
-/// first predicted to reach it within `within_s`.
+/// first predicted to reach it in less than `within_s` (so 0 waits for the limit itself).
 pub fn reason_to_switch_off(margins: &[PartMargin], within_s: f64) -> Option<String> {
     let over = margins.iter().find_map(|m| {
         let (limit, margin) = (m.limit_c?, m.margin_k?);
@@ -47,7 +47,7 @@ pub fn reason_to_switch_off(margins: &[PartMargin], within_s: f64) -> Option<Str
     over.or_else(|| {
         margins.iter().find_map(|m| {
             let (limit, seconds) = (m.limit_c?, m.seconds_to_limit?);
-            (seconds <= within_s).then(|| {
+            (seconds < within_s).then(|| {
                 format!(
                     "{} at {:.1} °C is predicted to reach its limit of {limit:.1} °C in {seconds:.0} s",
                     m.title, m.t_now_c
@@ -170,6 +170,10 @@ mod tests {
                 .contains("in 45 s")
         );
         assert_eq!(reason_to_switch_off(&soon, 30.0), None);
+        // A fit that puts the crossing now, with margin still left: only a window above 0.
+        let now = [part(84.0, 85.0, Some(0.0))];
+        assert!(reason_to_switch_off(&now, 1.0).is_some());
+        assert_eq!(reason_to_switch_off(&now, 0.0), None);
     }
 
     #[test]

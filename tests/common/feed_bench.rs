@@ -1,6 +1,7 @@
 //! The world of a feeder test: the `eddybench` server as a process of its own (so it can be
 //! killed and started again on the same port), an editor's token, an open run, and the feeder
 //! as a process (so it can be SIGKILLed mid-feed).
+#![allow(dead_code)] // each test file uses part of the kit
 
 use std::io::{BufRead, BufReader, Read};
 use std::path::{Path, PathBuf};

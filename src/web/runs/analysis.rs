@@ -134,7 +134,9 @@ async fn live_json(
     Path(id): Path<i64>,
 ) -> Result<Json<LiveJson>> {
     let run = state.store.run_by_id(RunId(id)).await?;
-    let elapsed_s = (crate::store::now_unix_s() - run.started_at) as f64;
+    // To the millisecond: a countdown of seconds needs better than whole seconds.
+    let now_unix_s = time::OffsetDateTime::now_utc().unix_timestamp_nanos() as f64 / 1e9;
+    let elapsed_s = now_unix_s - run.started_at as f64;
     if !run.is_open() {
         return Ok(Json(LiveJson {
             open: false,
