@@ -63,26 +63,31 @@ fn readings(seed: usize) -> Vec<NewReading> {
             t_s: t,
             channel: "supply_voltage".into(),
             value: 24.0 - wobble,
+            client_id: None,
         });
         out.push(NewReading {
             t_s: t,
             channel: "supply_current".into(),
             value: 8.0 + wobble,
+            client_id: None,
         });
         out.push(NewReading {
             t_s: t,
             channel: "frequency".into(),
             value: 110_000.0 + 10.0 * wobble,
+            client_id: None,
         });
         out.push(NewReading {
             t_s: t,
             channel: "temp.tank_capacitor".into(),
             value: 22.0 + 30.0 * rise + wobble,
+            client_id: None,
         });
         out.push(NewReading {
             t_s: t,
             channel: "ambient_temp".into(),
             value: 22.0,
+            client_id: None,
         });
     }
     out

@@ -6,6 +6,8 @@ pub mod analysis;
 pub mod channel;
 /// Server-side SVG charts.
 pub mod charts;
+/// Pure checks of every write, shared by pages, API, imports and the command line.
+pub mod checks;
 /// Start-up configuration.
 pub mod config;
 /// The demo scenario.

@@ -312,7 +312,7 @@ async fn a_script_logs_a_whole_run() {
     )
     .await;
     assert_eq!(readings.status, StatusCode::CREATED, "{}", readings.body);
-    assert_eq!(readings.json(), json!({"inserted": 3}));
+    assert_eq!(readings.json(), json!({"inserted": 3, "already_stored": 0}));
 
     let csv = "t_s,channel,value\r\n30,water_temp,24.5\r\n30,\"temp.tank_capacitor.8\",44.0\r\n60,frequency,152000\r\n";
     let readings = post(
@@ -324,7 +324,7 @@ async fn a_script_logs_a_whole_run() {
     )
     .await;
     assert_eq!(readings.status, StatusCode::CREATED, "{}", readings.body);
-    assert_eq!(readings.json(), json!({"inserted": 3}));
+    assert_eq!(readings.json(), json!({"inserted": 3, "already_stored": 0}));
 
     let finished = post_json(
         &app,
@@ -405,7 +405,7 @@ async fn a_csv_with_a_bad_row_inserts_nothing_and_names_the_row() {
     assert_eq!(app.count_rows("readings").await, 0);
 
     let page = post(&app, &path, &token, "text/csv", &csv_rows(1_600)).await;
-    assert_eq!(page.json(), json!({"inserted": 1_600}));
+    assert_eq!(page.json(), json!({"inserted": 1_600, "already_stored": 0}));
     assert_eq!(app.count_rows("readings").await, 1_600);
 
     for bad in [
@@ -468,6 +468,26 @@ async fn json_readings_are_checked_row_by_row() {
             "t_s",
             "not a number",
         ),
+        (
+            json!({"t_s": 1e12, "channel": "frequency", "value": 1e5}),
+            "t_s",
+            "more than a week",
+        ),
+        (
+            json!({"t_s": 2, "channel": "frequency", "value": 1e5, "id": 42}),
+            "id",
+            "must be a string",
+        ),
+        (
+            json!({"t_s": 2, "channel": "frequency", "value": 1e5, "id": ""}),
+            "id",
+            "empty",
+        ),
+        (
+            json!({"t_s": 2, "channel": "frequency", "value": 1e5, "id": "a b"}),
+            "id",
+            "only letters",
+        ),
     ] {
         let page = post_json(&app, &path, &token, json!([good, good, bad, good])).await;
         assert_eq!(page.status, StatusCode::UNPROCESSABLE_ENTITY, "{bad}");
@@ -504,6 +524,88 @@ async fn json_readings_are_checked_row_by_row() {
         assert_eq!(page.json()["field"], "body");
     }
     assert_eq!(app.count_rows("readings").await, 0);
+}
+
+/// A script that resends after a lost answer: the same id with the same time and value is
+/// stored once and the answer says so; the same id with another value is refused whole (409).
+#[tokio::test]
+async fn a_resent_reading_id_is_stored_once_and_a_reused_one_is_refused() {
+    let app = TestApp::new().await;
+    let token = token_for(&app, "logger", UserRole::Editor).await;
+    let id = open_run(&app, &token).await;
+    let path = format!("/api/v1/runs/{id}/readings");
+    let a1 = json!({"id": "cell-a1", "t_s": 10.0, "channel": "supply_voltage", "value": 24.0});
+    let a2 = json!({"id": "cell-a2", "t_s": 10.0, "channel": "supply_current", "value": 8.5});
+    let a3 = json!({"id": "cell-a3", "t_s": 20.0, "channel": "supply_current", "value": 8.6});
+
+    let first = post_json(&app, &path, &token, json!([a1, a2])).await;
+    assert_eq!(first.status, StatusCode::CREATED, "{}", first.body);
+    assert_eq!(first.json(), json!({"inserted": 2, "already_stored": 0}));
+    let resent = post_json(&app, &path, &token, json!([a1, a2])).await;
+    assert_eq!(resent.status, StatusCode::CREATED, "{}", resent.body);
+    assert_eq!(resent.json(), json!({"inserted": 0, "already_stored": 2}));
+    let mixed = post_json(&app, &path, &token, json!([a2, a3, a3])).await;
+    assert_eq!(mixed.json(), json!({"inserted": 1, "already_stored": 2}));
+    assert_eq!(app.count_rows("readings").await, 3);
+    let run = get(&app, &format!("/api/v1/runs/{id}"), &token)
+        .await
+        .json();
+    assert_eq!(
+        run["readings"], 3,
+        "the run's count holds each reading once"
+    );
+
+    // The same id with another value, or another time: the whole set is refused.
+    let a4 = json!({"id": "cell-a4", "t_s": 30.0, "channel": "frequency", "value": 150e3});
+    for reused in [
+        json!({"id": "cell-a1", "t_s": 10.0, "channel": "supply_voltage", "value": 24.5}),
+        json!({"id": "cell-a1", "t_s": 11.0, "channel": "supply_voltage", "value": 24.0}),
+    ] {
+        let refused = post_json(&app, &path, &token, json!([a4, reused])).await;
+        assert_eq!(refused.status, StatusCode::CONFLICT, "{}", refused.body);
+        let error = refused.json()["error"].as_str().unwrap().to_string();
+        assert!(
+            error.contains("cell-a1") && error.contains("new id"),
+            "{error}"
+        );
+    }
+    // Twice in one body with different values: refused too.
+    let twice = json!([a4, {"id": "cell-a4", "t_s": 30.0, "channel": "frequency", "value": 151e3}]);
+    let refused = post_json(&app, &path, &token, twice).await;
+    assert_eq!(refused.status, StatusCode::CONFLICT, "{}", refused.body);
+    assert_eq!(
+        app.count_rows("readings").await,
+        3,
+        "nothing of a refused set"
+    );
+
+    // Ids are the sender's, per run: another run may use the same one.
+    let other = post_json(
+        &app,
+        "/api/v1/builds/bench-heater/runs",
+        &token,
+        json!({"revision": "r1", "supply_voltage_v": 24.0, "load": "none"}),
+    )
+    .await;
+    assert_eq!(other.status, StatusCode::CREATED, "{}", other.body);
+    let other_id = other.json()["id"].as_i64().unwrap();
+    let elsewhere = post_json(
+        &app,
+        &format!("/api/v1/runs/{other_id}/readings"),
+        &token,
+        json!([a1]),
+    )
+    .await;
+    assert_eq!(
+        elsewhere.json(),
+        json!({"inserted": 1, "already_stored": 0})
+    );
+    // Readings without an id are stored each time, as before.
+    let plain = json!({"t_s": 40.0, "channel": "frequency", "value": 150e3});
+    post_json(&app, &path, &token, json!([plain])).await;
+    let again = post_json(&app, &path, &token, json!([plain])).await;
+    assert_eq!(again.json(), json!({"inserted": 1, "already_stored": 0}));
+    assert_eq!(app.count_rows("readings").await, 6);
 }
 
 #[tokio::test]

@@ -49,6 +49,7 @@ fn series(channels: &[(&str, f64, f64)]) -> Vec<NewReading> {
                 t_s,
                 channel: channel.to_string(),
                 value: start + rise_per_step * f64::from(step),
+                client_id: None,
             });
         }
     }
@@ -253,6 +254,7 @@ async fn seed_bench_rig(store: &Store) -> String {
                 t_s: 0.0,
                 channel: "ambient_temp".into(),
                 value: -5.0,
+                client_id: None,
             }],
             finish: None,
         },
@@ -537,6 +539,7 @@ async fn csv_tables_escape_formulas_and_keep_numbers_numeric() {
                 t_s: 12.5,
                 channel: "ambient_temp".into(),
                 value: -5.0,
+                client_id: None,
             }],
             None,
         )

@@ -118,6 +118,7 @@ fn reading(t_s: f64, channel: &str, value: f64) -> NewReading {
         t_s,
         channel: channel.into(),
         value,
+        client_id: None,
     }
 }
 

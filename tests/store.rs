@@ -133,6 +133,7 @@ async fn a_correction_keeps_the_old_value_in_the_history() {
                 t_s: 30.0,
                 channel: "temp.tank_capacitor".into(),
                 value: 410.0,
+                client_id: None,
             }],
             None,
         )

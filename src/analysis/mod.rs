@@ -27,6 +27,8 @@ pub mod run;
 pub mod run_flags;
 /// What build pages keep of each run.
 pub mod run_summary;
+/// Checks of a sender's id and a reading's time since the start.
+pub mod sent_entry;
 /// Medians, least-squares lines and per-channel samples.
 pub mod series;
 /// First-order thermal fit and time to a limit.

@@ -120,6 +120,7 @@ pub async fn seed(store: &Store) -> anyhow::Result<DemoLogin> {
                     t_s: r.t_s,
                     channel: r.channel.to_string(),
                     value: r.value,
+                    client_id: None,
                 })
                 .collect();
             store.add_readings(id, &readings, editor_id).await?;

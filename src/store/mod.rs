@@ -3,6 +3,7 @@
 mod attachments;
 mod builds;
 mod digests;
+mod event_marks;
 mod export;
 mod inspect;
 mod readings;
@@ -24,6 +25,7 @@ pub use attachments::{
     Attachment, AttachmentFiles, AttachmentId, AttachmentKind, NewAttachment, StoredFile,
 };
 pub use builds::{Build, BuildSummary, NewBuild};
+pub use event_marks::{EventMark, MarkStored, NewEventMark};
 pub use export::ImportError;
 pub use inspect::TableFingerprint;
 pub use readings::{NewReading, ReadingRow, ReadingsImport};
@@ -143,7 +145,7 @@ impl Store {
     /// Rows in a table, for tests that check that nothing was saved. Only the logbook's own
     /// table names are accepted.
     pub async fn count_rows(&self, table: &str) -> StoreResult<i64> {
-        const TABLES: [&str; 13] = [
+        const TABLES: [&str; 14] = [
             "users",
             "sessions",
             "builds",
@@ -157,6 +159,7 @@ impl Store {
             "audit_events",
             "api_tokens",
             "attachments",
+            "event_marks",
         ];
         if !TABLES.contains(&table) {
             return Err(StoreError::NotFound);

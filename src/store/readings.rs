@@ -1,5 +1,7 @@
 //! Readings: the time series of a run. Corrections add rows; nothing is overwritten.
 
+use std::collections::HashMap;
+
 use serde::Serialize;
 use sqlx::{Sqlite, Transaction};
 
@@ -11,6 +13,9 @@ pub struct NewReading {
     pub t_s: f64,
     pub channel: String,
     pub value: f64,
+    /// The id its sender made for it (a phone's queue, an instrument script): a reading sent
+    /// again with the same id and the same time and value is stored once.
+    pub client_id: Option<String>,
 }
 
 #[derive(Debug, Clone, Serialize, sqlx::FromRow)]
@@ -26,21 +31,22 @@ pub struct ReadingRow {
     pub entered_at: i64,
 }
 
-/// Rows per INSERT statement: SQLite allows 32 766 bound parameters, and each row binds 6.
+/// Rows per INSERT statement: SQLite allows 32 766 bound parameters, and each row binds 7.
 const ROWS_PER_STATEMENT: usize = 500;
 
 impl Store {
-    /// Stores readings in one transaction: all of them or none.
+    /// Stores readings in one transaction: all of them or none. Returns how many of them were
+    /// stored before (sent again under the same id) and so were not stored twice.
     pub async fn add_readings(
         &self,
         run_id: RunId,
         readings: &[NewReading],
         entered_by: Option<UserId>,
-    ) -> StoreResult<()> {
+    ) -> StoreResult<u64> {
         let mut tx = self.begin_write().await?;
-        insert_readings(&mut tx, run_id, readings, entered_by).await?;
+        let already_stored = insert_readings(&mut tx, run_id, readings, entered_by).await?;
         tx.commit().await?;
-        Ok(())
+        Ok(already_stored)
     }
 
     /// Replaces the current value of a reading by a new row that names it; the old one stays in
@@ -137,6 +143,7 @@ impl Store {
             run_id,
             entered_by,
             inserted: 0,
+            already_stored: 0,
         }
     }
 
@@ -156,34 +163,118 @@ impl Store {
 }
 
 /// Multi-row INSERTs inside the caller's transaction (shared by form entry and bulk import).
+/// Readings whose sender id is already stored with the same time and value are left out (a
+/// resend); one whose id is stored with another time or value refuses the whole set. Returns how
+/// many were left out.
 pub(super) async fn insert_readings(
     tx: &mut sqlx::Transaction<'static, sqlx::Sqlite>,
     run_id: RunId,
     readings: &[NewReading],
     entered_by: Option<UserId>,
-) -> StoreResult<()> {
+) -> StoreResult<u64> {
+    let fresh = leave_out_resent(tx, run_id, readings).await?;
+    let already_stored = (readings.len() - fresh.len()) as u64;
+    if fresh.is_empty() {
+        return Ok(already_stored);
+    }
     super::digests::forget_digest(tx, run_id).await?;
     sqlx::query("UPDATE runs SET reading_count = reading_count + ? WHERE id = ?")
-        .bind(readings.len() as i64)
+        .bind(fresh.len() as i64)
         .bind(run_id)
         .execute(&mut **tx)
         .await?;
     let now = now_unix_s();
-    for chunk in readings.chunks(ROWS_PER_STATEMENT) {
+    for chunk in fresh.chunks(ROWS_PER_STATEMENT) {
         let mut builder = sqlx::QueryBuilder::<sqlx::Sqlite>::new(
-            "INSERT INTO readings (run_id, t_s, channel, value, entered_by, entered_at) ",
+            "INSERT INTO readings (run_id, t_s, channel, value, client_id, entered_by, entered_at) ",
         );
         builder.push_values(chunk, |mut row, reading| {
             row.push_bind(run_id)
                 .push_bind(reading.t_s)
                 .push_bind(&reading.channel)
                 .push_bind(reading.value)
+                .push_bind(&reading.client_id)
                 .push_bind(entered_by)
                 .push_bind(now);
         });
         builder.build().execute(&mut **tx).await?;
     }
-    Ok(())
+    Ok(already_stored)
+}
+
+/// What a stored reading was sent as: compared with a resend of its id.
+#[derive(sqlx::FromRow)]
+struct SentAs {
+    client_id: String,
+    t_s: f64,
+    channel: String,
+    value: f64,
+}
+
+impl SentAs {
+    fn same_as(&self, reading: &NewReading) -> bool {
+        self.t_s == reading.t_s && self.channel == reading.channel && self.value == reading.value
+    }
+}
+
+/// The readings not stored yet: a resend (the same id, time, channel and value, in the database
+/// or earlier in the same set) is left out; the same id with anything else is a conflict.
+async fn leave_out_resent<'r>(
+    tx: &mut sqlx::Transaction<'static, sqlx::Sqlite>,
+    run_id: RunId,
+    readings: &'r [NewReading],
+) -> StoreResult<Vec<&'r NewReading>> {
+    let ids: Vec<&str> = readings
+        .iter()
+        .filter_map(|r| r.client_id.as_deref())
+        .collect();
+    if ids.is_empty() {
+        return Ok(readings.iter().collect());
+    }
+    let mut sent: HashMap<String, SentAs> = HashMap::new();
+    for chunk in ids.chunks(ROWS_PER_STATEMENT) {
+        let mut builder = sqlx::QueryBuilder::<sqlx::Sqlite>::new(
+            "SELECT client_id, t_s, channel, value FROM readings WHERE run_id = ",
+        );
+        builder.push_bind(run_id).push(" AND client_id IN (");
+        let mut list = builder.separated(", ");
+        for id in chunk {
+            list.push_bind(*id);
+        }
+        builder.push(")");
+        let rows: Vec<SentAs> = builder.build_query_as().fetch_all(&mut **tx).await?;
+        sent.extend(rows.into_iter().map(|row| (row.client_id.clone(), row)));
+    }
+    let mut fresh = Vec::with_capacity(readings.len());
+    for reading in readings {
+        let Some(id) = &reading.client_id else {
+            fresh.push(reading);
+            continue;
+        };
+        match sent.get(id) {
+            Some(earlier) if earlier.same_as(reading) => {}
+            Some(earlier) => {
+                return Err(StoreError::Conflict(format!(
+                    "the reading id {id:?} was already used for {} = {} at {} s; \
+                     a new reading needs a new id",
+                    earlier.channel, earlier.value, earlier.t_s
+                )));
+            }
+            None => {
+                sent.insert(
+                    id.clone(),
+                    SentAs {
+                        client_id: id.clone(),
+                        t_s: reading.t_s,
+                        channel: reading.channel.clone(),
+                        value: reading.value,
+                    },
+                );
+                fresh.push(reading);
+            }
+        }
+    }
+    Ok(fresh)
 }
 
 /// A bulk import into one run, written as it is read, in one write transaction: all rows or
@@ -198,6 +289,7 @@ pub struct ReadingsImport {
     run_id: RunId,
     entered_by: Option<UserId>,
     inserted: u64,
+    already_stored: u64,
 }
 
 impl ReadingsImport {
@@ -211,14 +303,24 @@ impl ReadingsImport {
             None => begin_import(&self.store, self.run_id).await?,
         };
         let tx = self.tx.insert(tx);
-        insert_readings(tx, self.run_id, readings, self.entered_by).await?;
-        self.inserted += readings.len() as u64;
+        let already_stored = insert_readings(tx, self.run_id, readings, self.entered_by).await?;
+        self.already_stored += already_stored;
+        self.inserted += readings.len() as u64 - already_stored;
         Ok(())
+    }
+
+    /// Rows pushed that were stored before under the same sender id, so not stored again.
+    pub fn already_stored(&self) -> u64 {
+        self.already_stored
     }
 
     /// Makes every pushed row permanent and returns how many there were.
     pub async fn commit(self) -> StoreResult<u64> {
         if let Some(mut tx) = self.tx {
+            if self.inserted == 0 {
+                // Every row was a resend: nothing changed, nothing to record.
+                return Ok(0);
+            }
             let build_id: super::BuildId =
                 sqlx::query_scalar("SELECT build_id FROM runs WHERE id = ?")
                     .bind(self.run_id)

@@ -193,6 +193,7 @@ impl World {
                     t_s,
                     channel: channel.into(),
                     value,
+                    client_id: None,
                 })
             })
             .collect();

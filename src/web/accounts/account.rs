@@ -9,6 +9,7 @@ use axum::http::{HeaderMap, StatusCode};
 use axum::response::{IntoResponse, Response};
 use serde::Deserialize;
 
+use crate::checks;
 use crate::secrets::{generate_password, hash_password, token_hash, verify_password};
 use crate::store::{User, UserRole};
 use crate::web::accounts::session::{Admin, CurrentUser, SESSION_COOKIE, cookie};
@@ -24,10 +25,6 @@ pub fn router() -> Routes {
         .get("/admin/users", Access::Admin, users)
         .post("/admin/users", Access::Admin, add_user)
 }
-
-/// Shortest password accepted (OWASP ASVS asks for at least 12 characters; 10 was the floor of
-/// the command line, so both now ask for 12).
-pub const MIN_PASSWORD_CHARS: usize = 12;
 
 #[derive(Template, WebTemplate)]
 #[template(path = "account/password.html")]
@@ -72,11 +69,8 @@ async fn change_password(
     if !verified {
         errors.add("current", "that is not your current password");
     }
-    if form.new.chars().count() < MIN_PASSWORD_CHARS {
-        errors.add(
-            "new",
-            format!("use at least {MIN_PASSWORD_CHARS} characters"),
-        );
+    if let Err(message) = checks::accounts::new_password(&form.new) {
+        errors.add("new", message);
     } else if form.new != form.repeat {
         errors.add("repeat", "the two new passwords differ");
     }
@@ -139,19 +133,16 @@ async fn add_user(
     Admin(admin): Admin,
     Form(form): Form<NewUserForm>,
 ) -> Result<Response> {
-    let name = form.name.trim().to_string();
     let mut errors = FieldErrors::default();
-    if name.is_empty() || name.len() > 64 || name.chars().any(char::is_whitespace) {
-        errors.add("name", "1 to 64 characters without spaces");
-    }
+    let name = checks::accounts::user_name(&form.name).unwrap_or_else(|message| {
+        errors.add("name", message);
+        String::new()
+    });
     let role = UserRole::parse(&form.role);
     if role.is_none() {
         errors.add("role", "choose viewer, editor or admin");
     }
-    let display = match form.display_name.trim() {
-        "" => name.clone(),
-        d => d.chars().take(80).collect(),
-    };
+    let display = checks::accounts::display_name(&form.display_name, &name);
     if let (true, Some(role)) = (errors.is_empty(), role) {
         let password = generate_password();
         let to_hash = password.clone();

@@ -594,7 +594,10 @@ async fn open_run(state: &AppState, run: &Run) -> Result<Revision> {
     Ok(state.store.revision_by_id(run.revision_id).await?)
 }
 
-/// `application/json`: an array of `{"t_s", "channel", "value"}`, read whole (up to 32 MiB).
+/// `application/json`: an array of `{"t_s", "channel", "value"}`, each with an optional `"id"`
+/// its sender made, read whole (up to 32 MiB). A row whose id is stored already with the same
+/// time and value is a resend and is counted as `already_stored`, not stored again; the same id
+/// with another value refuses the set (409).
 /// `text/csv`: a header `t_s,channel,value` and one reading a line, streamed (up to 256 MiB).
 /// Either way all rows are saved or none.
 #[tracing::instrument(skip_all, fields(run = id))]
@@ -631,11 +634,12 @@ async fn add_readings(
             ));
         }
     }
+    let already_stored = import.already_stored();
     let inserted = import.commit().await?;
-    tracing::info!(inserted, "readings imported");
+    tracing::info!(inserted, already_stored, "readings imported");
     Ok((
         StatusCode::CREATED,
-        Json(serde_json::json!({ "inserted": inserted })),
+        Json(serde_json::json!({ "inserted": inserted, "already_stored": already_stored })),
     )
         .into_response())
 }

@@ -86,6 +86,7 @@ pub(super) async fn add_reading(
                 t_s,
                 channel: channel.to_string(),
                 value,
+                client_id: None,
             }],
             Some(user.user_id),
         )

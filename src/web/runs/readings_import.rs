@@ -15,6 +15,7 @@ use serde::de::{DeserializeSeed, IgnoredAny, SeqAccess, Visitor};
 use serde::{Deserializer, Serialize};
 use serde_json::Value;
 
+use crate::analysis::sent_entry::{check_elapsed_s, check_sender_id};
 use crate::channel::Channel;
 use crate::parts::Parts;
 use crate::store::{NewReading, ReadingsImport, StoreError};
@@ -26,6 +27,8 @@ const BATCH_ROWS: usize = 500;
 const MAX_RECORD_BYTES: usize = 64 * 1024;
 const MAX_FIELDS: usize = 64;
 pub const COLUMNS: [&str; 3] = ["t_s", "channel", "value"];
+/// A JSON row may also carry the id its sender made (see `analysis::sent_entry`).
+const ID_COLUMN: &str = "id";
 /// Input longer than this is not quoted back in an error.
 const MAX_ECHO_CHARS: usize = 64;
 
@@ -146,7 +149,10 @@ impl<'a> RowCheck<'a> {
                 r#"must be an object {"t_s", "channel", "value"}"#.into(),
             ));
         };
-        if let Some(unknown) = object.keys().find(|k| !COLUMNS.contains(&k.as_str())) {
+        if let Some(unknown) = object
+            .keys()
+            .find(|k| !COLUMNS.contains(&k.as_str()) && k.as_str() != ID_COLUMN)
+        {
             if unknown.len() > MAX_ECHO_CHARS {
                 return Err((None, "an unknown column".into()));
             }
@@ -169,20 +175,22 @@ impl<'a> RowCheck<'a> {
             Some(_) => return Err(refusal("channel", "must be a channel name (a string)")),
         };
         let value = number("value")?;
-        reading(t_s, channel, value)
+        let client_id = match object.get(ID_COLUMN) {
+            None | Some(Value::Null) => None,
+            Some(Value::String(id)) => {
+                Some(check_sender_id(id).map_err(|m| refusal(ID_COLUMN, m))?)
+            }
+            Some(_) => return Err(refusal(ID_COLUMN, "must be a string")),
+        };
+        Ok(NewReading {
+            client_id,
+            ..reading(t_s, channel, value)?
+        })
     }
 }
 
 fn check_t_s(t_s: f64) -> Result<(), Refusal> {
-    if !t_s.is_finite() {
-        return Err(refusal("t_s", "must be a finite number"));
-    }
-    if t_s < 0.0 {
-        return Err(refusal(
-            "t_s",
-            format!("must be 0 or more (seconds since the run started), got {t_s}"),
-        ));
-    }
+    check_elapsed_s(t_s).map_err(|m| refusal("t_s", m))?;
     Ok(())
 }
 
@@ -202,6 +210,7 @@ fn reading(t_s: f64, channel: Channel, value: f64) -> Result<NewReading, Refusal
         t_s,
         channel: channel.to_string(),
         value,
+        client_id: None,
     })
 }
 
@@ -214,7 +223,10 @@ pub fn json_rows(body: &[u8], check: &RowCheck) -> Result<Vec<NewReading>, Impor
         .map_err(|e| {
             AppError::invalid(
                 "body",
-                format!("send a JSON array of {{\"t_s\", \"channel\", \"value\"}} rows: {e}"),
+                format!(
+                    "send a JSON array of {{\"t_s\", \"channel\", \"value\"}} rows \
+                     (each with an optional \"id\"): {e}"
+                ),
             )
         })?;
     rows.map_err(ImportError::Row)
