@@ -16,13 +16,16 @@ use serde::{Deserialize, Serialize};
 
 use super::reading::{FilePos, QueuedReading, ReadAt};
 
+/// How the ids of readings from a feeder begin.
+pub const ID_MARK: &str = "feed-";
 /// Start the file afresh once everything in it is done and it has grown this large.
 const COMPACT_AFTER_BYTES: u64 = 1 << 20;
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct QueueMeta {
     pub run: i64,
-    /// Ids are `<prefix>-<seq>`: unique to this queue, so two feeders never share one.
+    /// Ids are `feed-<prefix>-<seq>`: unique to this queue, so two feeders never share one, and
+    /// marked as an instrument's (a phone's ids do not start with `feed-`).
     pub id_prefix: String,
     /// The run's start on the server (Unix seconds), once known, so readings can be turned into
     /// times since the start while the server is out of reach.
@@ -151,7 +154,7 @@ impl Queue {
                 let seq = self.next_seq + i as u64;
                 QueuedReading {
                     seq,
-                    id: format!("{}-{seq}", self.meta.id_prefix),
+                    id: format!("{ID_MARK}{}-{seq}", self.meta.id_prefix),
                     source,
                     channel: channel.clone(),
                     value: *value,

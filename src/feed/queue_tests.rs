@@ -22,7 +22,7 @@ fn readings_survive_a_restart_until_marked_done() {
         [1, 2, 3, 4, 5]
     );
     let prefix = queue.meta().id_prefix.clone();
-    assert_eq!(added[2].id, format!("{prefix}-3"));
+    assert_eq!(added[2].id, format!("feed-{prefix}-3"));
     queue.done_up_to(2).unwrap();
     drop(queue);
 

@@ -4,7 +4,7 @@ use std::time::Duration;
 
 use axum::body::Bytes;
 use http_body_util::{BodyExt, Full};
-use hyper::header::{AUTHORIZATION, CONTENT_TYPE, DATE};
+use hyper::header::{ACCEPT, AUTHORIZATION, CONTENT_TYPE, DATE};
 use hyper::{Method, Request, StatusCode};
 use hyper_util::client::legacy::Client;
 use hyper_util::client::legacy::connect::HttpConnector;
@@ -12,6 +12,8 @@ use hyper_util::rt::TokioExecutor;
 use serde::Deserialize;
 use serde_json::Value;
 
+const JSON: &str = "application/json";
+const FORM: &str = "application/x-www-form-urlencoded";
 /// A request that takes longer than this is treated as an outage and retried.
 const REQUEST_TIMEOUT: Duration = Duration::from_secs(15);
 
@@ -97,15 +99,29 @@ impl Server {
         path: &str,
         body: Option<Vec<u8>>,
     ) -> Result<(Value, Option<String>), ApiError> {
+        self.send(method, path, body.map(|b| (JSON, b))).await
+    }
+
+    async fn send(
+        &self,
+        method: Method,
+        path: &str,
+        body: Option<(&str, Vec<u8>)>,
+    ) -> Result<(Value, Option<String>), ApiError> {
         let mut request = Request::builder()
             .method(method)
             .uri(format!("{}{path}", self.base))
-            .header(AUTHORIZATION, format!("Bearer {}", self.token));
-        if body.is_some() {
-            request = request.header(CONTENT_TYPE, "application/json");
-        }
+            .header(AUTHORIZATION, format!("Bearer {}", self.token))
+            .header(ACCEPT, JSON);
+        let body = match body {
+            Some((media_type, bytes)) => {
+                request = request.header(CONTENT_TYPE, media_type);
+                bytes
+            }
+            None => Vec::new(),
+        };
         let request = request
-            .body(Full::new(Bytes::from(body.unwrap_or_default())))
+            .body(Full::new(Bytes::from(body)))
             .map_err(|e| ApiError::Unreachable(e.to_string()))?;
         let answer = async {
             let response = self
@@ -139,6 +155,16 @@ impl Server {
         tokio::time::timeout(REQUEST_TIMEOUT, answer)
             .await
             .unwrap_or_else(|_| Err(ApiError::Unreachable("no answer in time".into())))
+    }
+
+    /// Posts a form (as a page would) asking for a JSON answer.
+    pub async fn post_form(&self, path: &str, fields: &[(&str, &str)]) -> Result<Value, ApiError> {
+        let body = form_urlencoded::Serializer::new(String::new())
+            .extend_pairs(fields)
+            .finish();
+        self.send(Method::POST, path, Some((FORM, body.into_bytes())))
+            .await
+            .map(|(json, _)| json)
     }
 
     pub async fn run(&self, run: i64) -> Result<RunState, ApiError> {

@@ -10,7 +10,6 @@ use std::time::Duration;
 
 use hyper::Method;
 use serde::Deserialize;
-use serde_json::json;
 
 use super::config::StopSwitch;
 use super::server::{ApiError, Server};
@@ -32,28 +31,68 @@ pub struct LiveState {
     pub margins: Vec<PartMargin>,
 }
 
+/// Why the supply must go off.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Reason {
+    pub title: String,
+    pub t_now_c: f64,
+    pub limit_c: f64,
+    /// Predicted seconds to the limit; `None` when the part is at or over it.
+    pub seconds_to_limit: Option<f64>,
+}
+
+impl Reason {
+    /// The status line's words.
+    pub fn words(&self) -> String {
+        match self.seconds_to_limit {
+            None => format!(
+                "{} at {:.1} °C reached its limit of {:.1} °C",
+                self.title, self.t_now_c, self.limit_c
+            ),
+            Some(seconds) => format!(
+                "{} at {:.1} °C is predicted to reach its limit of {:.1} °C in {seconds:.0} s",
+                self.title, self.t_now_c, self.limit_c
+            ),
+        }
+    }
+
+    /// The event mark's text: short enough for a mark on the run's timeline (80 characters).
+    pub fn mark_text(&self) -> String {
+        let part = self.title.trim_end_matches(" temperature");
+        let text = match self.seconds_to_limit {
+            None => format!(
+                "feeder: supply off, {part} {:.1} °C at limit {:.1} °C",
+                self.t_now_c, self.limit_c
+            ),
+            Some(seconds) => format!(
+                "feeder: supply off, {part} {:.1} °C, limit {:.1} °C in {seconds:.0} s",
+                self.t_now_c, self.limit_c
+            ),
+        };
+        text.chars().take(80).collect()
+    }
+}
+
 /// Why the supply must go off now, if it must: the first part at or over its limit, else the
 /// first predicted to reach it in less than `within_s` (so 0 waits for the limit itself).
-pub fn reason_to_switch_off(margins: &[PartMargin], within_s: f64) -> Option<String> {
-    let over = margins.iter().find_map(|m| {
-        let (limit, margin) = (m.limit_c?, m.margin_k?);
-        (margin <= 0.0).then(|| {
-            format!(
-                "{} at {:.1} °C reached its limit of {limit:.1} °C",
-                m.title, m.t_now_c
-            )
+pub fn reason_to_switch_off(margins: &[PartMargin], within_s: f64) -> Option<Reason> {
+    let reason = |m: &PartMargin, seconds_to_limit| {
+        Some(Reason {
+            title: m.title.clone(),
+            t_now_c: m.t_now_c,
+            limit_c: m.limit_c?,
+            seconds_to_limit,
         })
-    });
+    };
+    let over = margins
+        .iter()
+        .filter(|m| m.margin_k.is_some_and(|k| k <= 0.0))
+        .find_map(|m| reason(m, None));
     over.or_else(|| {
-        margins.iter().find_map(|m| {
-            let (limit, seconds) = (m.limit_c?, m.seconds_to_limit?);
-            (seconds < within_s).then(|| {
-                format!(
-                    "{} at {:.1} °C is predicted to reach its limit of {limit:.1} °C in {seconds:.0} s",
-                    m.title, m.t_now_c
-                )
-            })
-        })
+        margins
+            .iter()
+            .filter(|m| m.seconds_to_limit.is_some_and(|s| s < within_s))
+            .find_map(|m| reason(m, m.seconds_to_limit))
     })
 }
 
@@ -95,14 +134,16 @@ pub async fn watch(
             // Sent on every poll while the reason holds: a supply switched back on by hand
             // while the part is still over goes off again.
             Some(reason) => {
-                if off.send(reason.clone()).is_err() {
+                if off.send(reason.words()).is_err() {
                     return;
                 }
                 if !switched_off {
                     switched_off = true;
-                    let text = format!("supply switched off by the feeder: {reason}");
-                    feed.stop_switch_note(Some(text.clone()));
-                    mark(&feed, &server, run, &text).await;
+                    let mut note = format!("supply switched off by the feeder: {}", reason.words());
+                    if let Err(e) = mark(&feed, &server, run, &reason.mark_text()).await {
+                        note.push_str(&format!(" (the event mark could not be logged: {e})"));
+                    }
+                    feed.stop_switch_note(Some(note));
                 }
             }
             None => {
@@ -117,25 +158,25 @@ pub async fn watch(
     }
 }
 
-/// Logs an event mark on the run at the current time.
-async fn mark(feed: &Feed, server: &Server, run: i64, text: &str) {
-    let Some(started) = feed
-        .queue
-        .lock()
-        .unwrap_or_else(|p| p.into_inner())
-        .meta()
-        .run_started_unix_s
-    else {
-        return;
-    };
-    let body = json!({ "t_s": (now_unix_s() - started as f64).max(0.0), "text": text });
-    let path = format!("/api/v1/runs/{run}/marks");
-    if let Err(e) = server
-        .call(Method::POST, &path, serde_json::to_vec(&body).ok())
+/// Logs an event mark on the run now, through the run page's marks address (an editor's token
+/// acts there as on the API). Its id makes a retried mark count once.
+async fn mark(feed: &Feed, server: &Server, run: i64, text: &str) -> Result<(), String> {
+    let state = server.run(run).await.map_err(|e| e.message())?;
+    let id = format!(
+        "{}-mark-{}",
+        feed.queue
+            .lock()
+            .unwrap_or_else(|p| p.into_inner())
+            .meta()
+            .id_prefix,
+        now_unix_s() as u64
+    );
+    let path = format!("{}/marks", state.url);
+    server
+        .post_form(&path, &[("text", text), ("id", &id)])
         .await
-    {
-        tracing::warn!("could not log the event mark ({})", e.message());
-    }
+        .map(|_| ())
+        .map_err(|e| e.message())
 }
 
 #[cfg(test)]
@@ -156,24 +197,37 @@ mod tests {
     fn at_the_limit_it_switches_off() {
         let reason = reason_to_switch_off(&[part(85.0, 85.0, Some(0.0))], 60.0).unwrap();
         assert_eq!(
-            reason,
+            reason.words(),
             "Tank capacitor 2 temperature at 85.0 °C reached its limit of 85.0 °C"
+        );
+        assert_eq!(
+            reason.mark_text(),
+            "feeder: supply off, Tank capacitor 2 85.0 °C at limit 85.0 °C"
         );
     }
 
     #[test]
     fn a_prediction_inside_the_window_switches_off_one_outside_does_not() {
         let soon = [part(70.0, 85.0, Some(45.4))];
-        assert!(
-            reason_to_switch_off(&soon, 60.0)
-                .unwrap()
-                .contains("in 45 s")
+        let reason = reason_to_switch_off(&soon, 60.0).unwrap();
+        assert!(reason.words().ends_with("in 45 s"), "{}", reason.words());
+        assert_eq!(
+            reason.mark_text(),
+            "feeder: supply off, Tank capacitor 2 70.0 °C, limit 85.0 °C in 45 s"
         );
         assert_eq!(reason_to_switch_off(&soon, 30.0), None);
         // A fit that puts the crossing now, with margin still left: only a window above 0.
         let now = [part(84.0, 85.0, Some(0.0))];
         assert!(reason_to_switch_off(&now, 1.0).is_some());
         assert_eq!(reason_to_switch_off(&now, 0.0), None);
+    }
+
+    #[test]
+    fn a_mark_stays_within_80_characters() {
+        let mut long = part(90.0, 85.0, None);
+        long.title = "A very long part name that someone typed in full ".repeat(3);
+        let reason = reason_to_switch_off(&[long], 0.0).unwrap();
+        assert_eq!(reason.mark_text().chars().count(), 80);
     }
 
     #[test]
@@ -194,10 +248,8 @@ mod tests {
     #[test]
     fn a_part_over_its_limit_comes_before_a_prediction() {
         let margins = [part(70.0, 85.0, Some(10.0)), part(90.0, 85.0, Some(0.0))];
-        assert!(
-            reason_to_switch_off(&margins, 60.0)
-                .unwrap()
-                .contains("90.0 °C reached")
-        );
+        let reason = reason_to_switch_off(&margins, 60.0).unwrap();
+        assert_eq!(reason.t_now_c, 90.0);
+        assert_eq!(reason.seconds_to_limit, None);
     }
 }
