@@ -150,3 +150,41 @@ async fn killing_the_server_and_the_feeder_loses_nothing_and_sends_nothing_twice
         "only {during_outage} readings stamped within the outage"
     );
 }
+
+/// The worst moment to die: the server stored a batch, the feeder was killed before it wrote
+/// down that it had. The restarted feeder sends the batch again with the same ids and times,
+/// and the server keeps one of each.
+#[tokio::test(flavor = "multi_thread")]
+async fn a_batch_sent_again_after_a_lost_acknowledgement_is_stored_once() {
+    let server = BenchServer::start().await;
+    let run = server.open_run().await;
+    let work = tempfile::tempdir().unwrap();
+    let file = work.path().join("bank.log");
+    std::fs::write(&file, "").unwrap();
+    let config = config_file(
+        work.path(),
+        "[[source]]\nkind = \"lines-file\"\npath = \"bank.log\"\n",
+    );
+    let queue = work.path().join("queue");
+    let mut feeder = Feeder::start(&server, run, &config, &queue);
+    // Lines written before the feeder started are an earlier session's.
+    feeder.wait_started();
+    let mut written = Vec::new();
+    append(&file, &mut written, 20).await;
+    server
+        .readings_until(run, Duration::from_secs(20), |rows| rows.len() == 20)
+        .await;
+    feeder.sigkill();
+    std::fs::write(queue.join("sent"), "0").unwrap();
+
+    let mut feeder = Feeder::start(&server, run, &config, &queue);
+    append(&file, &mut written, 5).await;
+    let rows = server
+        .readings_until(run, Duration::from_secs(20), |rows| rows.len() >= 25)
+        .await;
+    server.finish(run).await;
+    let (success, printed) = feeder.wait(Duration::from_secs(20));
+    assert!(success, "{printed}");
+    assert_eq!(values_of(&rows, "temp.tank_capacitor.1"), written);
+    assert_eq!(server.readings(run).await.len(), 25);
+}

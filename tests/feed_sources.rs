@@ -68,11 +68,8 @@ path = "coil.log"
         ),
     );
     let mut feeder = Feeder::start(&server, run, &config, &work.path().join("queue"));
-    // Lines written before the feeder follows the file are an earlier session's: wait until
-    // it runs (the supply's first readings are stored).
-    server
-        .readings_until(run, Duration::from_secs(20), |rows| !rows.is_empty())
-        .await;
+    // Lines written before the feeder started are an earlier session's.
+    feeder.wait_started();
 
     // The logger prints good lines and bad ones; the file grows, and is rotated once.
     let mut appended = std::fs::OpenOptions::new()

@@ -27,14 +27,14 @@ struct Followed {
     lines: LineAssembler,
 }
 
-/// Follows the file from `saved` (the place its readings were queued up to), or from its end
-/// when there is none: lines written before the feeder started are an earlier session's.
-pub fn run(feed: &Feed, index: usize, source: &SourceConfig, saved: Option<FilePos>) {
+/// Follows the file from `start` (where its readings were queued up to, or its end when the
+/// feeder started: lines written before are an earlier session's), else from its beginning.
+pub fn run(feed: &Feed, index: usize, source: &SourceConfig, start: Option<FilePos>) {
     let Access::File { path } = &source.access else {
         return;
     };
     let names = LineNames(&source.channels);
-    let mut first_open = Some(saved.ok_or(path.exists()));
+    let mut first_open = start;
     let mut followed: Option<Followed> = None;
     while !feed.is_stopping() {
         let current = match followed.as_mut() {
@@ -82,15 +82,23 @@ pub fn run(feed: &Feed, index: usize, source: &SourceConfig, saved: Option<FileP
     }
 }
 
-/// Opens the file at the place to start from. `first` is `None` after a rotation (start at
-/// the beginning), else the saved place or whether the file existed at start-up.
-fn open(path: &Path, first: Option<Result<FilePos, bool>>) -> io::Result<Followed> {
+/// Where a file ends now, to follow it from there.
+pub fn end_of(path: &Path) -> Option<FilePos> {
+    let meta = std::fs::metadata(path).ok()?;
+    Some(FilePos {
+        inode: meta.ino(),
+        offset: meta.len(),
+    })
+}
+
+/// Opens the file at `start` when it is still the same file and not cut shorter, else at its
+/// beginning (a file made after a rotation, or after the feeder started).
+fn open(path: &Path, start: Option<FilePos>) -> io::Result<Followed> {
     let mut file = File::open(path)?;
     let meta = file.metadata()?;
     let inode = meta.ino();
-    let offset = match first {
-        Some(Ok(saved)) if saved.inode == inode && saved.offset <= meta.len() => saved.offset,
-        Some(Err(true)) => meta.len(),
+    let offset = match start {
+        Some(start) if start.inode == inode && start.offset <= meta.len() => start.offset,
         _ => 0,
     };
     file.seek(SeekFrom::Start(offset))?;

@@ -67,8 +67,14 @@ pub struct FeedOptions {
 pub async fn feed(options: FeedOptions) -> anyhow::Result<(Ended, Arc<Feed>)> {
     let queue = Queue::open(&options.queue_dir, options.run)?;
     let server = Server::new(&options.server, &options.token)?;
-    let saved: Vec<_> = (0..options.config.sources.len())
-        .map(|i| queue.file_position(i))
+    // A followed file starts where its queued readings end, or where it ends now.
+    let starts: Vec<_> = (options.config.sources.iter().enumerate())
+        .map(|(i, source)| match &source.access {
+            config::Access::File { path } => {
+                queue.file_position(i).or_else(|| lines_file::end_of(path))
+            }
+            _ => None,
+        })
         .collect();
     let labels = options.config.sources.iter().map(|s| s.label()).collect();
     let feed = Arc::new(Feed::new(queue, labels));
@@ -88,7 +94,7 @@ pub async fn feed(options: FeedOptions) -> anyhow::Result<(Ended, Arc<Feed>)> {
             }
             None => None,
         };
-        let (feed, source, saved) = (feed.clone(), source.clone(), saved[index]);
+        let (feed, source, start) = (feed.clone(), source.clone(), starts[index]);
         std::thread::Builder::new()
             .name(format!("source {index}"))
             .spawn(move || match source.kind {
@@ -96,7 +102,7 @@ pub async fn feed(options: FeedOptions) -> anyhow::Result<(Ended, Arc<Feed>)> {
                     scpi::run(&feed, index, &source, off)
                 }
                 SourceKind::LinesSerial => lines_serial::run(&feed, index, &source),
-                SourceKind::LinesFile => lines_file::run(&feed, index, &source, saved),
+                SourceKind::LinesFile => lines_file::run(&feed, index, &source, start),
                 SourceKind::Stdin => stdin::run(&feed, index, &source),
             })?;
     }

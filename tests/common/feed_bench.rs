@@ -208,6 +208,16 @@ impl Feeder {
         }
     }
 
+    /// Waits for the first status lines: the sources have started (and a followed file's end
+    /// was taken).
+    pub fn wait_started(&self) {
+        let until = Instant::now() + Duration::from_secs(20);
+        while !self.stderr.lock().unwrap().contains("server http") {
+            assert!(Instant::now() < until, "the feeder never started");
+            std::thread::sleep(Duration::from_millis(20));
+        }
+    }
+
     pub fn sigkill(&mut self) {
         if let Some(mut child) = self.child.take() {
             child.kill().unwrap();
