@@ -185,6 +185,7 @@ async fn main() {
         let router = app(AppState {
             store,
             config: Arc::new(Config::new(dir.path().to_path_buf())),
+            run_feeds: Default::default(),
         });
         let first = view(&router, &cookie).await;
         let mut warm = Vec::new();

@@ -113,6 +113,7 @@ async fn main() {
     let router = app(AppState {
         store: store.clone(),
         config: Arc::new(Config::new(dir.path().to_path_buf())),
+        run_feeds: Default::default(),
     });
 
     let sent = Arc::new(std::sync::atomic::AtomicU64::new(0));

@@ -92,6 +92,9 @@ pub struct RunRecord {
     pub outcome_note: String,
     /// Every row, in the order they were entered; corrections follow what they replace.
     pub readings: Vec<ReadingRecord>,
+    /// Event marks on the run's timeline ("fan on"), voided ones with their reason.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub event_marks: Vec<EventMarkRecord>,
     /// The run's analysis (`analysis::run::analyse_run`) for whoever reads the file. It is
     /// derived data: an import ignores it and the receiving instance computes its own.
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -109,6 +112,19 @@ pub struct ReadingRecord {
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub corrects: Option<usize>,
     pub entered_at: i64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct EventMarkRecord {
+    /// Seconds from the start of the run.
+    pub t_s: f64,
+    pub text: String,
+    pub made_at: i64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub voided_at: Option<i64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub void_reason: Option<String>,
 }
 
 /// Why a file cannot be imported. Each message says what to fix.
@@ -422,6 +438,7 @@ mod tests {
                     reading(0.0, "ambient_temp", 21.0, None),
                     reading(0.0, "ambient_temp", 12.0, Some(0)),
                 ],
+                event_marks: Vec::new(),
                 analysis: None,
             }],
         }

@@ -20,6 +20,8 @@ pub mod feed;
 pub mod parts;
 /// Pure driver physics: each formula once, with its source.
 pub mod physics;
+/// Notices of changes to open runs, for their live pages.
+pub mod run_feed;
 /// Passwords, session ids and tokens.
 pub mod secrets;
 /// The SQLite store, the only module that speaks SQL.

@@ -179,6 +179,7 @@ async fn forwarded_headers_count_only_when_configured() {
     let proxied = eddybench::app(AppState {
         store,
         config: Arc::new(config),
+        run_feeds: Default::default(),
     });
     let trusted = post_build(
         &proxied,

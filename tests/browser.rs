@@ -7,7 +7,7 @@ mod common;
 
 use browser::{
     Driver, PHONE_WIDTH, Served, click, click_and_load, fill, horizontal_overflow_px, screenshot,
-    texts,
+    texts, wait_for_texts,
 };
 use eddybench::secrets::hash_password;
 use eddybench::store::UserRole;
@@ -116,11 +116,11 @@ async fn phone_sign_in_build_revision_and_run() {
         "{run_path}"
     );
 
+    // One set, one tap: the page stays, the readings come back over the live stream.
     fill(&client, "#v-supply_current", "6.2").await;
-    click_and_load(&client, "#entry-supply_current button.add").await;
     fill(&client, "#v-temp\\.tank_capacitor", "38.5").await;
-    click_and_load(&client, "[id='entry-temp.tank_capacitor'] button.add").await;
-    let values = texts(&client, "table.readings span.value").await;
+    click(&client, "#entry-set button.log").await;
+    let values = wait_for_texts(&client, "table.readings span.value", 10, |v| v.len() == 2).await;
     assert_eq!(values, vec!["38.5 °C", "6.2 A"], "newest first");
     assert!(
         horizontal_overflow_px(&client).await <= 0,
@@ -179,14 +179,18 @@ async fn phone_logs_a_whole_run_at_the_bench() {
     let run_path = client.current_url().await.unwrap().path().to_string();
 
     fill(&client, "#v-supply_current", "3.1").await;
-    click_and_load(&client, "#entry-supply_current button.add").await;
     fill(&client, "#v-frequency", "104.2k").await;
-    click_and_load(&client, "#entry-frequency button.add").await;
+    click(&client, "#entry-set button.log").await;
+    wait_for_texts(&client, "#entry-confirm", 10, |t| {
+        t.concat().starts_with("logged 2")
+    })
+    .await;
     // A reading written down earlier goes in with its time.
     fill(&client, "#v-supply_voltage", "35.8").await;
-    click(&client, "#entry-supply_voltage details summary").await;
-    fill(&client, "#entry-supply_voltage input[name=time]", "0:05").await;
-    click_and_load(&client, "#entry-supply_voltage button.add").await;
+    click(&client, "#entry-set details.set-time summary").await;
+    fill(&client, "#entry-set input[name=time]", "0:05").await;
+    click(&client, "#entry-set button.log").await;
+    wait_for_texts(&client, "table.readings span.value", 10, |v| v.len() == 3).await;
 
     client.refresh().await.unwrap();
     let values = texts(&client, "table.readings span.value").await;
@@ -221,7 +225,7 @@ async fn phone_logs_a_whole_run_at_the_bench() {
     );
     assert_eq!(
         client
-            .find_all(Locator::Css("form.entry"))
+            .find_all(Locator::Css("form#entry-set"))
             .await
             .unwrap()
             .len(),

@@ -94,6 +94,18 @@ async fn logged_run(
         .add_readings(run, &plan.readings, Some(user))
         .await
         .unwrap();
+    store
+        .add_event_mark(
+            run,
+            &eddybench::store::NewEventMark {
+                t_s: 30.0,
+                text: "=fan on".into(),
+                client_id: None,
+            },
+            Some(user),
+        )
+        .await
+        .unwrap();
     if let Some((outcome, failed_part, note)) = plan.finish {
         store
             .finish_run(

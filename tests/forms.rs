@@ -240,31 +240,49 @@ async fn a_run_starts_and_takes_readings_with_units() {
         .await;
     assert_eq!(started.status, StatusCode::SEE_OTHER, "{}", started.body);
     let run_path = started.location();
+    let run_id: i64 = run_path.rsplit('/').next().unwrap().parse().unwrap();
+    app.store
+        .backdate_run_start(eddybench::store::RunId(run_id), 120)
+        .await
+        .unwrap();
     let page = app.get(&run_path, Some(&session)).await;
-    assert_eq!(page.count("form.entry"), 3, "one entry per channel in use");
+    assert_eq!(
+        page.count("form#entry-set input[name^='value.']"),
+        3,
+        "one field per channel in use, in one form"
+    );
+    // Values written on paper, each with its time: one set per time.
     for (channel, value, time) in [
         ("frequency", "152", "0:30"), // a bare number in the frequency field is kHz
         ("supply_current", "500 mA", "45 s"),
-        ("temp.tank_capacitor", "41.5", ""),
     ] {
+        let name = format!("value.{channel}");
         let added = app
             .post_form(
                 &format!("{run_path}/readings"),
                 &session,
-                &[("channel", channel), ("value", value), ("time", time)],
+                &[(name.as_str(), value), ("time", time)],
             )
             .await;
-        assert_eq!(added.status, StatusCode::SEE_OTHER);
+        assert_eq!(added.status, StatusCode::SEE_OTHER, "{}", added.body);
         assert!(
-            !added.location().contains("error="),
-            "{channel} {value}: {}",
+            added.location().contains("logged=1"),
+            "{}",
             added.location()
         );
     }
+    let added = app
+        .post_form(
+            &format!("{run_path}/readings"),
+            &session,
+            &[("value.temp.tank_capacitor", "41.5")],
+        )
+        .await;
+    assert_eq!(added.status, StatusCode::SEE_OTHER);
     let page = app.get(&run_path, Some(&session)).await;
     let cells = page.select_texts("table.readings td");
     let values = page.select_texts("table.readings span.value");
-    assert_eq!(values, vec!["500 mA", "152 kHz", "41.5 °C"], "newest first");
+    assert_eq!(values, vec!["41.5 °C", "500 mA", "152 kHz"], "newest first");
     assert!(
         cells.contains(&"0:30".to_string()) && cells.contains(&"0:45".to_string()),
         "{cells:?}"
@@ -341,22 +359,34 @@ async fn a_bad_reading_is_refused_with_a_message_and_not_saved() {
         ("temp.tank_capacitor", "4100", ""),
         ("temp.tank_capacitor", "", ""),
         ("temp.tank_capacitor", "41", "yesterday"),
+        ("temp.tank_capacitor", "41", "99:00"),
         ("temp.nothing", "41", ""),
     ] {
+        let name = format!("value.{channel}");
         let page = app
             .post_form(
                 &format!("{run_path}/readings"),
                 &session,
-                &[("channel", channel), ("value", value), ("time", time)],
+                &[(name.as_str(), value), ("time", time)],
             )
             .await;
-        assert_eq!(page.status, StatusCode::SEE_OTHER);
-        assert!(
-            page.location().contains("error="),
+        assert_eq!(
+            page.status,
+            StatusCode::UNPROCESSABLE_ENTITY,
             "{value:?} at {time:?} should be refused"
         );
-        let shown = app.get(&page.location(), Some(&session)).await;
-        assert_eq!(shown.count("#entry-error"), 1);
+        assert!(
+            page.count("#entry-set p.error, #set-error") >= 1,
+            "{value:?} {time:?}"
+        );
+        if channel == "temp.tank_capacitor" && !value.is_empty() {
+            assert_eq!(
+                page.attr("input[name='value.temp.tank_capacitor']", "value")
+                    .as_deref(),
+                Some(value),
+                "what was typed is kept"
+            );
+        }
     }
     assert_eq!(app.count_rows("readings").await, 0);
 }
@@ -394,7 +424,7 @@ async fn finishing_a_run_records_the_failed_part_and_closes_entry() {
         "{banner}"
     );
     assert_eq!(
-        page.count("form.entry"),
+        page.count("form#entry-set"),
         0,
         "a finished run takes no more readings"
     );
@@ -402,7 +432,7 @@ async fn finishing_a_run_records_the_failed_part_and_closes_entry() {
         .post_form(
             &format!("{run_path}/readings"),
             &session,
-            &[("channel", "temp.tank_capacitor"), ("value", "50")],
+            &[("value.temp.tank_capacitor", "50")],
         )
         .await;
     assert_eq!(late.status, StatusCode::CONFLICT);

@@ -321,6 +321,7 @@ impl Https {
         let router = app(AppState {
             store: store.clone(),
             config: Arc::new(config),
+            run_feeds: Default::default(),
         });
         Https {
             router,

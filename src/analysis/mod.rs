@@ -3,6 +3,10 @@
 
 /// Efficiency three ways: calorimetric, differential, model.
 pub mod efficiency;
+/// The order of the run page's entry fields.
+pub mod entry_order;
+/// The check of an event mark on a run's timeline.
+pub mod event_mark;
 /// Findings about parts, with severity and the source of each limit.
 pub mod flags;
 /// Time a part spent near its limit.
@@ -21,6 +25,8 @@ pub mod operating_point;
 pub mod part_limits;
 /// One timestamped value on a channel.
 pub mod reading;
+/// The check of one set of readings logged at the bench.
+pub mod reading_set;
 /// A finished run's analysis.
 pub mod run;
 /// Rules that raise a run's flags.

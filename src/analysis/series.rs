@@ -16,6 +16,44 @@ pub fn samples(readings: &[Reading], channel: Channel) -> Vec<(f64, f64)> {
     out
 }
 
+/// A series thinned to at most about `buckets` × 4 points for a chart, keeping every extreme:
+/// the time span is cut into equal buckets and each keeps its first, lowest, highest and last
+/// point (in time order), so a spike or a dip survives however many readings there are. A
+/// series that is short already comes back as it is. `points` must be in time order.
+pub fn decimate_min_max(points: &[(f64, f64)], buckets: usize) -> Vec<(f64, f64)> {
+    if buckets == 0 || points.len() <= buckets * 4 {
+        return points.to_vec();
+    }
+    let (start, end) = (points[0].0, points[points.len() - 1].0);
+    let width = (end - start) / buckets as f64;
+    if width <= 0.0 || !width.is_finite() {
+        return points.to_vec();
+    }
+    let mut out = Vec::with_capacity(buckets * 4);
+    let mut at = 0;
+    while at < points.len() {
+        let bucket = (((points[at].0 - start) / width) as usize).min(buckets - 1);
+        let mut stop = at;
+        while stop < points.len()
+            && (((points[stop].0 - start) / width) as usize).min(buckets - 1) == bucket
+        {
+            stop += 1;
+        }
+        let span = &points[at..stop];
+        let low = span.iter().min_by(|a, b| a.1.total_cmp(&b.1)).copied();
+        let high = span.iter().max_by(|a, b| a.1.total_cmp(&b.1)).copied();
+        let mut kept: Vec<(f64, f64)> = [Some(span[0]), low, high, Some(span[span.len() - 1])]
+            .into_iter()
+            .flatten()
+            .collect();
+        kept.sort_by(|a, b| a.0.total_cmp(&b.0));
+        kept.dedup();
+        out.extend(kept);
+        at = stop;
+    }
+    out
+}
+
 /// The part-temperature channels that have at least one reading, in channel order.
 pub fn part_channels(readings: &[Reading]) -> BTreeSet<Channel> {
     readings
@@ -99,5 +137,32 @@ mod tests {
         assert!((line.slope - 2.2).abs() < 1e-12);
         assert!((line.intercept - 0.7).abs() < 1e-12);
         assert!(least_squares_line(&[(1.0, 1.0), (1.0, 2.0)]).is_none());
+    }
+}
+
+#[cfg(test)]
+mod decimation_tests {
+    use super::decimate_min_max;
+
+    #[test]
+    fn a_long_series_keeps_every_extreme_and_its_ends() {
+        let mut points: Vec<(f64, f64)> = (0..100_000)
+            .map(|i| (f64::from(i), 20.0 + f64::from(i % 7)))
+            .collect();
+        points[54_321].1 = 99.0;
+        points[77_777].1 = -5.0;
+        let thin = decimate_min_max(&points, 200);
+        assert!(thin.len() <= 800, "{} points", thin.len());
+        assert!(thin.contains(&(54_321.0, 99.0)) && thin.contains(&(77_777.0, -5.0)));
+        assert_eq!(thin.first(), points.first());
+        assert_eq!(thin.last(), points.last());
+        assert!(thin.windows(2).all(|w| w[0].0 < w[1].0), "time order");
+    }
+
+    #[test]
+    fn a_short_series_is_left_alone() {
+        let points = vec![(0.0, 1.0), (1.0, 2.0), (2.0, 1.5)];
+        assert_eq!(decimate_min_max(&points, 200), points);
+        assert_eq!(decimate_min_max(&[], 200), Vec::<(f64, f64)>::new());
     }
 }

@@ -37,6 +37,7 @@ pub async fn run_server(
     let router = app(AppState {
         store,
         config: Arc::new(config),
+        run_feeds: Default::default(),
     });
     println!("Eddybench is serving at http://{address}/");
     if let Some(banner) = banner {

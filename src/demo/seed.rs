@@ -1,7 +1,9 @@
 //! Seeds a fresh store with the demo accounts and the scenario's builds.
 
 use crate::secrets::hash_password;
-use crate::store::{NewBuild, NewReading, NewRun, Outcome, RunFinish, Store, UserRole, now_unix_s};
+use crate::store::{
+    NewBuild, NewEventMark, NewReading, NewRun, Outcome, RunFinish, Store, UserRole, now_unix_s,
+};
 
 use super::scenario;
 
@@ -124,6 +126,18 @@ pub async fn seed(store: &Store) -> anyhow::Result<DemoLogin> {
                 })
                 .collect();
             store.add_readings(id, &readings, editor_id).await?;
+            // An invented mark, so the demo's charts and tables show one.
+            store
+                .add_event_mark(
+                    id,
+                    &NewEventMark {
+                        t_s: 0.0,
+                        text: "supply on".into(),
+                        client_id: None,
+                    },
+                    editor_id,
+                )
+                .await?;
             let duration_s = run.readings.iter().map(|r| r.t_s).fold(0.0, f64::max);
             let outcome = Outcome::parse(run.outcome)
                 .ok_or_else(|| anyhow::anyhow!("demo run has an unknown outcome"))?;

@@ -1,5 +1,5 @@
 //! The export document as CSV tables for a spreadsheet: `build.csv`, `revisions.csv`,
-//! `parts.csv`, `runs.csv` and `readings.csv`, joined by their `revision` (r1, r2, …) and `run`
+//! `parts.csv`, `runs.csv`, `readings.csv` and `marks.csv`, joined by their `revision` (r1, r2, …) and `run`
 //! (1, 2, … in start order) columns. Readings are numbered from 1 within their run, and
 //! `corrects` gives the number of the reading a correction replaces.
 //!
@@ -33,15 +33,17 @@ pub enum Table {
     Parts,
     Runs,
     Readings,
+    Marks,
 }
 
 impl Table {
-    pub const ALL: [Table; 5] = [
+    pub const ALL: [Table; 6] = [
         Table::Build,
         Table::Revisions,
         Table::Parts,
         Table::Runs,
         Table::Readings,
+        Table::Marks,
     ];
 
     pub fn name(self) -> &'static str {
@@ -51,6 +53,7 @@ impl Table {
             Table::Parts => "parts",
             Table::Runs => "runs",
             Table::Readings => "readings",
+            Table::Marks => "marks",
         }
     }
 
@@ -127,6 +130,7 @@ pub fn write_table(document: &BuildDocument, table: Table) -> Vec<u8> {
         Table::Parts => parts_table(document),
         Table::Runs => runs_table(document),
         Table::Readings => readings_table(document),
+        Table::Marks => marks_table(document),
     };
     let mut out = UTF8_BOM.to_vec();
     {
@@ -390,6 +394,31 @@ fn runs_table(document: &BuildDocument) -> Rows {
             ]
         })
         .collect();
+    (header, rows)
+}
+
+fn marks_table(document: &BuildDocument) -> Rows {
+    let header = names(&[
+        "run",
+        "t_s",
+        "text",
+        "made_at_utc",
+        "voided_at_utc",
+        "void_reason",
+    ]);
+    let mut rows = Vec::new();
+    for (i, run) in document.runs.iter().enumerate() {
+        for mark in &run.event_marks {
+            rows.push(vec![
+                Cell::Integer(i as i64 + 1),
+                Cell::Number(mark.t_s),
+                text(&mark.text),
+                time_utc(Some(mark.made_at)),
+                time_utc(mark.voided_at),
+                mark.void_reason.as_deref().map_or(Cell::Empty, text),
+            ]);
+        }
+    }
     (header, rows)
 }
 

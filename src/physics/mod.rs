@@ -18,6 +18,8 @@ pub mod driver;
 pub mod gate;
 /// Parallel LC resonance, reactances and reactive power.
 pub mod resonance;
+/// Time-domain simulation of the whole driver, from switch-on to steady state.
+pub mod sim;
 /// Switching MOSFETs: conduction loss and the junction-temperature fixed point.
 pub mod switch;
 /// First-order thermal response and the time to reach a limit.

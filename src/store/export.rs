@@ -13,8 +13,8 @@ use super::{Build, BuildId, ReadingId, RevisionId, RunId, Store, StoreError, Sto
 use super::{Outcome, now_unix_s};
 use crate::analysis::run::Load;
 use crate::export::{
-    BuildDocument, BuildRecord, DocumentError, FORMAT, ReadingRecord, RevisionRecord, RunRecord,
-    VERSION,
+    BuildDocument, BuildRecord, DocumentError, EventMarkRecord, FORMAT, ReadingRecord,
+    RevisionRecord, RunRecord, VERSION,
 };
 
 /// Why an import saved nothing: the document, or the database.
@@ -58,6 +58,16 @@ struct RunRow {
     outcome: Option<String>,
     failed_part: Option<String>,
     outcome_note: String,
+}
+
+#[derive(sqlx::FromRow)]
+struct MarkRow {
+    run_id: RunId,
+    t_s: f64,
+    text: String,
+    made_at: i64,
+    voided_at: Option<i64>,
+    void_reason: Option<String>,
 }
 
 #[derive(sqlx::FromRow)]
@@ -123,6 +133,14 @@ impl Store {
         .bind(build.id)
         .fetch_all(&mut *tx)
         .await?;
+        let marks: Vec<MarkRow> = sqlx::query_as(
+            "SELECT m.run_id, m.t_s, m.text, m.made_at, m.voided_at, m.void_reason
+             FROM event_marks m JOIN runs u ON u.id = m.run_id
+             WHERE u.build_id = ? ORDER BY m.run_id, m.t_s, m.id",
+        )
+        .bind(build.id)
+        .fetch_all(&mut *tx)
+        .await?;
         tx.commit().await?;
 
         let mut parts_of: HashMap<RevisionId, Vec<&PartRow>> = HashMap::new();
@@ -145,11 +163,28 @@ impl Store {
         for reading in readings {
             readings_of.entry(reading.run_id).or_default().push(reading);
         }
+        let mut marks_of: HashMap<RunId, Vec<EventMarkRecord>> = HashMap::new();
+        for mark in marks {
+            marks_of
+                .entry(mark.run_id)
+                .or_default()
+                .push(EventMarkRecord {
+                    t_s: mark.t_s,
+                    text: mark.text,
+                    made_at: mark.made_at,
+                    voided_at: mark.voided_at,
+                    void_reason: mark.void_reason,
+                });
+        }
         let runs = runs
             .into_iter()
             .map(|row| {
                 let readings = readings_of.remove(&row.id).unwrap_or_default();
-                run_record(row, readings)
+                let marks = marks_of.remove(&row.id).unwrap_or_default();
+                run_record(row, readings).map(|run| RunRecord {
+                    event_marks: marks,
+                    ..run
+                })
             })
             .collect::<StoreResult<Vec<_>>>()?;
         Ok(BuildDocument {
@@ -203,6 +238,7 @@ impl Store {
             run_ids.push(insert_run(&mut tx, build_id, revision_id, run).await?);
         }
         insert_readings(&mut tx, &document.runs, &run_ids).await?;
+        insert_marks(&mut tx, &document.runs, &run_ids).await?;
         tx.commit().await?;
         Ok(slug)
     }
@@ -262,8 +298,34 @@ fn run_record(row: RunRow, readings: Vec<ReadingRow>) -> StoreResult<RunRecord> 
         failed_part: row.failed_part,
         outcome_note: row.outcome_note,
         readings,
+        event_marks: Vec::new(),
         analysis: None,
     })
+}
+
+/// Every run's event marks, as exported (who made them is not exported).
+async fn insert_marks(
+    tx: &mut Transaction<'static, Sqlite>,
+    runs: &[RunRecord],
+    run_ids: &[RunId],
+) -> StoreResult<()> {
+    for (run, run_id) in runs.iter().zip(run_ids) {
+        for mark in &run.event_marks {
+            sqlx::query(
+                "INSERT INTO event_marks (run_id, t_s, text, made_at, voided_at, void_reason)
+                 VALUES (?, ?, ?, ?, ?, ?)",
+            )
+            .bind(*run_id)
+            .bind(mark.t_s)
+            .bind(&mark.text)
+            .bind(mark.made_at)
+            .bind(mark.voided_at)
+            .bind(&mark.void_reason)
+            .execute(&mut **tx)
+            .await?;
+        }
+    }
+    Ok(())
 }
 
 /// The slug itself when free, else the first free of `slug-2`, `slug-3`, … (as `create_build`).

@@ -76,4 +76,15 @@ impl Store {
             .await?;
         Ok(())
     }
+
+    /// Moves a run's start `seconds` into the past, as if it had been running that long (the
+    /// time since the start of each reading is counted from this stored time).
+    pub async fn backdate_run_start(&self, run_id: super::RunId, seconds: i64) -> StoreResult<()> {
+        sqlx::query("UPDATE runs SET started_at = started_at - ? WHERE id = ?")
+            .bind(seconds)
+            .bind(run_id)
+            .execute(&self.pool)
+            .await?;
+        Ok(())
+    }
 }

@@ -3,6 +3,7 @@
 mod attachments;
 mod builds;
 mod digests;
+mod entry_orders;
 mod event_marks;
 mod export;
 mod inspect;

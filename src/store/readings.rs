@@ -135,6 +135,79 @@ impl Store {
         .await?)
     }
 
+    /// Current values stored after the reading `after_id` (corrections included, as rows
+    /// that name what they replace), oldest first, at most `limit`: what a live page missed.
+    pub async fn readings_after(
+        &self,
+        run_id: RunId,
+        after_id: i64,
+        limit: i64,
+    ) -> StoreResult<Vec<ReadingRow>> {
+        Ok(sqlx::query_as(
+            "SELECT r.id, r.t_s, r.channel, r.value, r.corrects_id, 0 AS superseded, r.entered_at
+             FROM readings r
+             WHERE r.run_id = ? AND r.id > ?
+               AND NOT EXISTS (SELECT 1 FROM readings c WHERE c.corrects_id = r.id)
+             ORDER BY r.id DESC LIMIT ?",
+        )
+        .bind(run_id)
+        .bind(after_id)
+        .bind(limit)
+        .fetch_all(&self.pool)
+        .await?
+        .into_iter()
+        .rev()
+        .collect())
+    }
+
+    /// One page of a run's current values, newest first (by time), and the replaced values of
+    /// those rows: a page that shows the latest few dozen never reads the whole run.
+    pub async fn readings_page(
+        &self,
+        run_id: RunId,
+        offset: i64,
+        limit: i64,
+    ) -> StoreResult<Vec<ReadingRow>> {
+        Ok(sqlx::query_as(
+            "SELECT r.id, r.t_s, r.channel, r.value, r.corrects_id, 0 AS superseded, r.entered_at
+             FROM readings r
+             WHERE r.run_id = ?
+               AND NOT EXISTS (SELECT 1 FROM readings c WHERE c.corrects_id = r.id)
+             ORDER BY r.t_s DESC, r.id DESC LIMIT ? OFFSET ?",
+        )
+        .bind(run_id)
+        .bind(limit)
+        .bind(offset)
+        .fetch_all(&self.pool)
+        .await?)
+    }
+
+    /// The chain of values a reading replaced, newest first.
+    pub async fn replaced_values(&self, reading_id: ReadingId) -> StoreResult<Vec<ReadingRow>> {
+        Ok(sqlx::query_as(
+            "WITH RECURSIVE chain(id) AS (
+                 SELECT corrects_id FROM readings WHERE id = ?
+                 UNION ALL
+                 SELECT r.corrects_id FROM readings r JOIN chain ON r.id = chain.id
+                 WHERE r.corrects_id IS NOT NULL)
+             SELECT r.id, r.t_s, r.channel, r.value, r.corrects_id, 1 AS superseded, r.entered_at
+             FROM readings r JOIN chain ON r.id = chain.id ORDER BY r.id DESC",
+        )
+        .bind(reading_id)
+        .fetch_all(&self.pool)
+        .await?)
+    }
+
+    /// The newest reading id of a run (0 when it has none): where a live page starts.
+    pub async fn last_reading_id(&self, run_id: RunId) -> StoreResult<i64> {
+        Ok(
+            sqlx::query_scalar("SELECT COALESCE(MAX(id), 0) FROM readings WHERE run_id = ?")
+                .bind(run_id)
+                .fetch_one(&self.pool)
+                .await?,
+        )
+    }
+
     /// Starts a bulk import into an open run; see [`ReadingsImport`].
     pub fn readings_import(&self, run_id: RunId, entered_by: Option<UserId>) -> ReadingsImport {
         ReadingsImport {

@@ -39,6 +39,8 @@ pub use routes::{Access, RouteInfo};
 pub struct AppState {
     pub store: Store,
     pub config: Arc<Config>,
+    /// Changes to open runs, for the run pages' live streams.
+    pub run_feeds: crate::run_feed::RunFeeds,
 }
 
 impl FromRef<AppState> for Store {

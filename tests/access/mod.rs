@@ -410,9 +410,9 @@ pub fn payload(route: &RouteInfo) -> Result<Payload, String> {
             ("supply_setting_v", "24"),
             ("channel", "supply_voltage"),
         ]),
-        "/builds/{slug}/runs/{id}/readings" => {
-            form(&[("channel", "supply_voltage"), ("value", "24.1 V")])
-        }
+        "/builds/{slug}/runs/{id}/readings" => form(&[("value.supply_voltage", "24.1 V")]),
+        "/builds/{slug}/runs/{id}/marks" => form(&[("text", "fan on")]),
+        "/builds/{slug}/runs/{id}/entry-order" => form(&[("earlier", "supply_voltage")]),
         "/builds/{slug}/runs/{id}/readings/{reading}/correct" => form(&[("value", "24.2")]),
         "/builds/{slug}/runs/{id}/finish" => form(&[("outcome", "completed")]),
         "/builds/{slug}/runs/{id}/attachments" => Payload::Multipart(multipart(

@@ -31,6 +31,7 @@ impl Served {
         let router = app(AppState {
             store: store.clone(),
             config: Arc::new(Config::new(dir.path().to_path_buf())),
+            run_feeds: Default::default(),
         });
         // Bound before the server task starts, so it accepts as soon as the test connects.
         let listener = tokio::net::TcpListener::bind("127.0.0.1:0").await.unwrap();
@@ -212,4 +213,27 @@ pub async fn screenshot(client: &Client, name: &str) {
     std::fs::create_dir_all(&dir).unwrap();
     let png = client.screenshot().await.unwrap();
     std::fs::write(dir.join(format!("{name}.png")), png).unwrap();
+}
+
+#[allow(dead_code)] // not every browser test waits on a page that changes by itself
+/// Waits until the texts of the elements matched by `selector` satisfy `ok` (polled every
+/// 100 ms, for changes a page makes by itself) and returns them; panics with the last texts
+/// seen after `seconds`.
+pub async fn wait_for_texts(
+    client: &Client,
+    selector: &str,
+    seconds: u64,
+    ok: impl Fn(&[String]) -> bool,
+) -> Vec<String> {
+    let deadline = std::time::Instant::now() + std::time::Duration::from_secs(seconds);
+    loop {
+        let seen = texts(client, selector).await;
+        if ok(&seen) {
+            return seen;
+        }
+        if std::time::Instant::now() > deadline {
+            panic!("{selector} never became as expected; last seen {seen:?}");
+        }
+        tokio::time::sleep(std::time::Duration::from_millis(100)).await;
+    }
 }

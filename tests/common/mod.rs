@@ -91,6 +91,7 @@ impl TestApp {
         let state = AppState {
             store: store.clone(),
             config: Arc::new(Config::new(dir.path().to_path_buf())),
+            run_feeds: Default::default(),
         };
         TestApp {
             router: app(state),

@@ -14,6 +14,7 @@ use serde::{Deserialize, Serialize};
 use crate::analysis::{OperatingPoint, validate};
 use crate::channel::Channel;
 use crate::parts::Parts;
+use crate::run_feed::RunChange;
 use crate::store::{
     Build, NewBuild, NewRun, Outcome, Revision, Run, RunFinish, RunId, revision_number,
 };
@@ -547,6 +548,7 @@ async fn finish_run(
         )
         .await?;
     crate::web::runs::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
+    state.run_feeds.notify(run.id, RunChange::Finished);
     let run = state.store.run_by_id(run.id).await?;
     Ok(Json(run_json(&state, &build, run).await?))
 }
@@ -636,6 +638,9 @@ async fn add_readings(
     }
     let already_stored = import.already_stored();
     let inserted = import.commit().await?;
+    if inserted > 0 {
+        state.run_feeds.notify(run.id, RunChange::Readings);
+    }
     tracing::info!(inserted, already_stored, "readings imported");
     Ok((
         StatusCode::CREATED,
@@ -694,6 +699,7 @@ async fn upload_csv(
         }
     }
     let inserted = import.commit().await?;
+    state.run_feeds.notify(run.id, RunChange::Readings);
     tracing::info!(inserted, "readings imported from the run page");
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#readings")).into_response())
 }

@@ -1,27 +1,19 @@
-//! Logging at the bench: a reading stamped with the time since the start, a correction that
-//! keeps the old value, and the end of the run.
+//! Corrections that keep the old value, and the end of the run (sets of readings and marks are
+//! in `set`).
 
 use axum::Form;
 use axum::extract::{Path, State};
 use axum::response::{IntoResponse, Redirect, Response};
 use serde::Deserialize;
 
+use crate::analysis::reading_set::parse_entry;
 use crate::channel::Channel;
-use crate::store::{NewReading, Outcome, ReadingId, RunFinish, now_unix_s};
-use crate::units::parse_elapsed_s;
+use crate::run_feed::RunChange;
+use crate::store::{Outcome, ReadingId, RunFinish};
 use crate::web::accounts::session::Editor;
 use crate::web::{AppError, AppState, Result};
 
-use super::entry_units::parse_entry;
 use super::lookup::{build_and_run, channels_of};
-
-#[derive(Deserialize)]
-pub(super) struct ReadingForm {
-    channel: String,
-    value: String,
-    #[serde(default)]
-    time: String,
-}
 
 /// Back to the run page with a message beside the field (the page keeps no typed values, so
 /// the message says what was wrong and the user types again).
@@ -32,66 +24,6 @@ fn back_with_error(slug: &str, id: i64, channel: &str, message: &str) -> Respons
         "/builds/{slug}/runs/{id}?error={message}&channel={channel}#entry-{channel}"
     ))
     .into_response()
-}
-
-pub(super) async fn add_reading(
-    State(state): State<AppState>,
-    Editor(user): Editor,
-    Path((slug, id)): Path<(String, i64)>,
-    Form(form): Form<ReadingForm>,
-) -> Result<Response> {
-    let (_, run) = build_and_run(&state, &slug, id).await?;
-    if !run.is_open() {
-        return Err(AppError::Conflict(
-            "this run is finished; readings can no longer be added".into(),
-        ));
-    }
-    let channel: Channel = match form.channel.parse() {
-        Ok(c) => c,
-        Err(e) => return Ok(back_with_error(&slug, id, &form.channel, &e.to_string())),
-    };
-    let value = match parse_entry(channel, &form.value) {
-        Ok(v) => v,
-        Err(e) => return Ok(back_with_error(&slug, id, &form.channel, &e.to_string())),
-    };
-    let (low, high) = channel.plausible_range();
-    if !(low..=high).contains(&value) {
-        return Ok(back_with_error(
-            &slug,
-            id,
-            &form.channel,
-            &format!("{} is outside {low}..{high}", form.value.trim()),
-        ));
-    }
-    let t_s = if form.time.trim().is_empty() {
-        (now_unix_s() - run.started_at).max(0) as f64
-    } else {
-        match parse_elapsed_s(&form.time) {
-            Ok(t) => t,
-            Err(_) => {
-                return Ok(back_with_error(
-                    &slug,
-                    id,
-                    &form.channel,
-                    "time: use 2:30 or 150 s",
-                ));
-            }
-        }
-    };
-    state
-        .store
-        .add_readings(
-            run.id,
-            &[NewReading {
-                t_s,
-                channel: channel.to_string(),
-                value,
-                client_id: None,
-            }],
-            Some(user.user_id),
-        )
-        .await?;
-    Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#entry-{}", channel)).into_response())
 }
 
 #[derive(Deserialize)]
@@ -128,6 +60,7 @@ pub(super) async fn correct_reading(
         .store
         .correct_reading(run.id, ReadingId(reading), value, Some(user.user_id))
         .await?;
+    state.run_feeds.notify(run.id, RunChange::Readings);
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}#readings")).into_response())
 }
 
@@ -188,6 +121,5 @@ pub(super) async fn finish(
             },
         )
         .await?;
-    crate::web::runs::digests::keep_digest_of_finished_run(&state.store, run.id).await?;
     Ok(Redirect::to(&format!("/builds/{slug}/runs/{id}")).into_response())
 }

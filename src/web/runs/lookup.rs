@@ -7,9 +7,6 @@ use crate::store::{Build, Run, RunId};
 use crate::web::reader::Reader;
 use crate::web::{AppError, AppState, Result};
 
-/// Readings shown at once on an open run's page, newest first; the rest fold away.
-pub(super) const RECENT_READINGS: usize = 20;
-
 pub const LOADS: [&str; 4] = ["none", "ferrous", "non_ferrous", "water"];
 
 /// Every channel a revision can log: the electrical ones, then each part's temperature (the

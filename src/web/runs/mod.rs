@@ -3,10 +3,11 @@
 pub mod analysis;
 pub mod digests;
 mod entry;
-mod entry_units;
+mod live;
 pub mod lookup;
 mod page;
 pub mod readings_import;
+mod set;
 mod start;
 pub mod view;
 
@@ -21,8 +22,24 @@ pub fn router() -> Routes {
         .post(
             "/builds/{slug}/runs/{id}/readings",
             Access::Editor,
-            entry::add_reading,
+            set::add_set,
         )
+        .post(
+            "/builds/{slug}/runs/{id}/marks",
+            Access::Editor,
+            set::add_mark,
+        )
+        .post(
+            "/builds/{slug}/runs/{id}/entry-order",
+            Access::Editor,
+            set::move_field_earlier,
+        )
+        .get(
+            "/builds/{slug}/runs/{id}/events",
+            Access::Viewer,
+            live::events,
+        )
+        .get("/s/{slug}/runs/{id}/events", Access::Share, live::events)
         .post(
             "/builds/{slug}/runs/{id}/readings/{reading}/correct",
             Access::Editor,

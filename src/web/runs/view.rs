@@ -6,7 +6,7 @@ use crate::analysis::model_table::quantity_rows;
 use crate::analysis::part_limits::LimitBasis;
 use crate::analysis::reading::Reading;
 use crate::analysis::run::{RunAnalysis, ThermalResult};
-use crate::analysis::series::samples;
+use crate::analysis::series::{decimate_min_max, samples};
 use crate::analysis::thermal_fit::first_order_temperature_c;
 use crate::channel::Channel;
 use crate::charts::{
@@ -34,11 +34,15 @@ pub struct ThermalRow {
     pub standing: &'static str,
 }
 
+#[derive(serde::Serialize)]
 pub struct LiveRow {
     pub title: String,
     pub now: String,
     pub margin: String,
     pub countdown: String,
+    /// Seconds to the limit when the prediction was made (empty without one), so the page's
+    /// script can count down between updates.
+    pub seconds_to_limit: String,
     pub severity: &'static str,
 }
 
@@ -125,7 +129,7 @@ fn thermal_row(t: &ThermalResult) -> ThermalRow {
     }
 }
 
-fn live_row(m: &LiveMargin) -> LiveRow {
+pub fn live_row(m: &LiveMargin) -> LiveRow {
     LiveRow {
         title: m.title.clone(),
         now: format!("{:.1} °C", m.t_now_c),
@@ -133,6 +137,11 @@ fn live_row(m: &LiveMargin) -> LiveRow {
             .margin_k
             .map(|k| format!("{k:.1} K to its {:.0} °C limit", m.limit_c.unwrap_or(0.0)))
             .unwrap_or_else(|| "no limit given".into()),
+        seconds_to_limit: m
+            .seconds_to_limit
+            .filter(|s| *s > 0.0)
+            .map(|s| format!("{s:.0}"))
+            .unwrap_or_default(),
         countdown: match m.seconds_to_limit {
             Some(0.0) => "AT OR OVER ITS LIMIT".into(),
             Some(s) => format!("limit in about {}", minutes_seconds(s)),
@@ -155,6 +164,26 @@ const MARKERS: [Marker; 6] = [
     Marker::Plus,
 ];
 
+/// Buckets a chart's series is thinned to (min/max per bucket): about as many as a phone has
+/// pixels across its plot, so the page stays small however long the run.
+const CHART_BUCKETS: usize = 150;
+
+/// A channel's readings as a chart draws them: every extreme kept, the count bounded.
+fn chart_points(readings: &[Reading], channel: Channel) -> Vec<(f64, f64)> {
+    decimate_min_max(&samples(readings, channel), CHART_BUCKETS)
+}
+
+/// The run's event marks as vertical lines on a chart.
+fn mark_lines(marks: &[(f64, String)]) -> Vec<XMarker> {
+    marks
+        .iter()
+        .map(|(t_s, text)| XMarker {
+            label: text.clone(),
+            x: *t_s,
+        })
+        .collect()
+}
+
 fn short_title(name: &str) -> String {
     channel_title(name)
         .trim_end_matches(" temperature")
@@ -164,7 +193,12 @@ fn short_title(name: &str) -> String {
 /// Temperatures against time, one chart per part role so that a bank of capacitors stays
 /// readable on a phone: each unit's readings, the fitted curve of the hottest unit (dashed), the
 /// role's limit, and the predicted crossing when the fit says there is one.
-fn temperature_charts(run_id: i64, analysis: &RunAnalysis, readings: &[Reading]) -> Vec<ChartView> {
+fn temperature_charts(
+    run_id: i64,
+    analysis: &RunAnalysis,
+    readings: &[Reading],
+    marks: &[(f64, String)],
+) -> Vec<ChartView> {
     let mut roles: Vec<crate::parts::Role> = analysis.thermal.iter().map(|t| t.part).collect();
     roles.dedup();
     roles.sort();
@@ -179,14 +213,14 @@ fn temperature_charts(run_id: i64, analysis: &RunAnalysis, readings: &[Reading])
                 .copied()
                 .max_by(|a, b| a.t_max_c.total_cmp(&b.t_max_c))?;
             let mut series = Vec::new();
-            let mut x_markers = Vec::new();
+            let mut x_markers = mark_lines(marks);
             for (i, t) in units.iter().enumerate() {
                 let Ok(channel) = t.channel.parse::<Channel>() else {
                     continue;
                 };
                 series.push(Series {
                     label: short_title(&t.channel),
-                    points: samples(readings, channel),
+                    points: chart_points(readings, channel),
                     style: SeriesStyle::LineAndPoints,
                     marker: MARKERS[i % MARKERS.len()],
                     colour_index: i,
@@ -271,8 +305,9 @@ fn channel_chart(
     scale: f64,
     y_label: &str,
     title: &str,
+    marks: &[(f64, String)],
 ) -> Option<ChartView> {
-    let points: Vec<(f64, f64)> = samples(readings, channel)
+    let points: Vec<(f64, f64)> = chart_points(readings, channel)
         .into_iter()
         .map(|(t, v)| (t, v * scale))
         .collect();
@@ -291,6 +326,7 @@ fn channel_chart(
             colour_index: 0,
         }],
         x_format: AxisFormat::MinutesSeconds,
+        x_markers: mark_lines(marks),
         id: format!("run-{run_id}-{channel}").replace('.', "-"),
         ..LineChart::default()
     };
@@ -309,6 +345,7 @@ impl AnalysisView {
         analysis: &RunAnalysis,
         readings: &[Reading],
         open_at_s: Option<f64>,
+        marks: &[(f64, String)],
     ) -> AnalysisView {
         let mut operating = Vec::new();
         if let Some(op) = &analysis.operating_point {
@@ -377,7 +414,7 @@ impl AnalysisView {
             None => Vec::new(),
         };
         let mut charts = Vec::new();
-        charts.extend(temperature_charts(run_id, analysis, readings));
+        charts.extend(temperature_charts(run_id, analysis, readings, marks));
         charts.extend(channel_chart(
             run_id,
             readings,
@@ -385,6 +422,7 @@ impl AnalysisView {
             1.0,
             "supply current (A)",
             "Supply current",
+            marks,
         ));
         charts.extend(channel_chart(
             run_id,
@@ -393,6 +431,7 @@ impl AnalysisView {
             1e-3,
             "frequency (kHz)",
             "Frequency",
+            marks,
         ));
         AnalysisView {
             operating,
