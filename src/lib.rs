@@ -14,6 +14,8 @@ pub mod config;
 pub mod demo;
 /// A build as one JSON document (export and import between instances) and as CSV tables.
 pub mod export;
+/// The bench-side feeder: instruments to a durable queue to the JSON API.
+pub mod feed;
 /// The parts contract of a revision.
 pub mod parts;
 /// Pure driver physics: each formula once, with its source.

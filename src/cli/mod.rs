@@ -2,6 +2,7 @@
 //! same checks and store functions as the pages and the API.
 
 mod export;
+mod feed;
 mod import;
 mod model;
 mod serve;
@@ -112,6 +113,9 @@ pub enum Command {
         #[command(flatten)]
         data: DataDir,
     },
+    /// Send readings from bench instruments into an open run (see `feed --help`)
+    #[command(long_about = feed::LONG_ABOUT)]
+    Feed(feed::FeedArgs),
     /// Manage API tokens for scripts (a token acts with its user's role)
     Token {
         #[command(subcommand)]
@@ -258,6 +262,7 @@ pub async fn run(cli: Cli) -> anyhow::Result<()> {
             let store = Store::open(&data.path()).await?;
             user::user_command(&store, command).await
         }
+        Command::Feed(args) => feed::run(args).await,
         Command::Token { command, data } => {
             let store = Store::open(&data.path()).await?;
             token::token_command(&store, command).await

@@ -1,10 +1,14 @@
 //! A run's analysis from the store: its readings and revision in, `RunAnalysis` out, shared by
-//! the run page and `GET /api/v1/runs/{id}/analysis`.
+//! the run page and `GET /api/v1/runs/{id}/analysis`; and an open run's live margins for
+//! scripts (`GET /api/v1/runs/{id}/live`, which the feeder's stop switch follows).
 
 use axum::Json;
 use axum::extract::{Path, State};
 
+use serde::Serialize;
+
 use crate::analysis::efficiency::{IDLE_SUPPLY_TOLERANCE, IdleReference};
+use crate::analysis::live::{LiveMargin, live_margins};
 use crate::analysis::operating_point::operating_point;
 use crate::analysis::reading::Reading;
 use crate::analysis::run::{Load, RunAnalysis, RunInput, analyse_run};
@@ -15,7 +19,9 @@ use crate::web::routes::{Access, Routes};
 use crate::web::{AppState, Result};
 
 pub fn router() -> Routes {
-    Routes::new().get("/api/v1/runs/{id}/analysis", Access::Viewer, analysis_json)
+    Routes::new()
+        .get("/api/v1/runs/{id}/analysis", Access::Viewer, analysis_json)
+        .get("/api/v1/runs/{id}/live", Access::Viewer, live_json)
 }
 
 /// The current readings of a run as the analysis takes them (unknown channels skipped).
@@ -111,4 +117,39 @@ async fn analysis_json(
     Ok(Json(
         analyse_stored_run(&state.store, &run, &revision, &readings).await?,
     ))
+}
+
+/// An open run's standing now: the same margins the run page shows, most urgent first.
+#[derive(Serialize)]
+struct LiveJson {
+    open: bool,
+    /// Seconds since the run started, by the server's clock.
+    elapsed_s: f64,
+    margins: Vec<LiveMargin>,
+}
+
+async fn live_json(
+    State(state): State<AppState>,
+    CurrentUser(_user): CurrentUser,
+    Path(id): Path<i64>,
+) -> Result<Json<LiveJson>> {
+    let run = state.store.run_by_id(RunId(id)).await?;
+    // To the millisecond: a countdown of seconds needs better than whole seconds.
+    let now_unix_s = time::OffsetDateTime::now_utc().unix_timestamp_nanos() as f64 / 1e9;
+    let elapsed_s = now_unix_s - run.started_at as f64;
+    if !run.is_open() {
+        return Ok(Json(LiveJson {
+            open: false,
+            elapsed_s,
+            margins: Vec::new(),
+        }));
+    }
+    let revision = state.store.revision_by_id(run.revision_id).await?;
+    let readings = analysis_readings(&state.store, run.id).await?;
+    let setting = operating_point(&readings, run.supply_setting_v).map(|op| op.supply_voltage_v);
+    Ok(Json(LiveJson {
+        open: true,
+        elapsed_s,
+        margins: live_margins(&revision.parts, &readings, setting, elapsed_s),
+    }))
 }
