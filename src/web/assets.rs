@@ -34,6 +34,8 @@ const ASSETS: &[Asset] = &[
     asset!("compare.css", "text/css; charset=utf-8"),
     asset!("run_page.css", "text/css; charset=utf-8"),
     asset!("run_page.js", "text/javascript; charset=utf-8"),
+    asset!("charts.js", "text/javascript; charset=utf-8"),
+    asset!("copy.js", "text/javascript; charset=utf-8"),
 ];
 
 /// Hex digits of the content hash in a versioned name: 48 bits tell a changed file apart.
