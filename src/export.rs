@@ -64,7 +64,7 @@ pub struct RevisionRecord {
     pub parent: Option<i64>,
     pub notes: String,
     pub created_at: i64,
-    /// The parts contract of DESIGN.md.
+    /// The parts contract of [`Parts`]: one object per role, SI units, snake_case.
     pub parts: Parts,
 }
 

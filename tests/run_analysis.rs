@@ -122,7 +122,7 @@ fn reading(t_s: f64, channel: &str, value: f64) -> NewReading {
     }
 }
 
-/// REFERENCE.md §8 (Incropera & DeWitt, published): T_a 25 °C, ΔT_ss 50 K, τ 300 s.
+/// Lumped capacitance (Incropera & DeWitt, published): T_a 25 °C, ΔT_ss 50 K, τ 300 s.
 fn reference_temperature(t_s: f64) -> f64 {
     25.0 + 50.0 * (1.0 - (-t_s / 300.0).exp())
 }
@@ -164,7 +164,7 @@ async fn the_fit_recovers_the_reference_curve_and_its_time_to_limit() {
         "{fit}"
     );
     assert_eq!(fit["trustworthy"], true);
-    // REFERENCE.md §8: 65 °C is reached at 482.83 s.
+    // Lumped model: 65 °C is reached at 482.83 s.
     assert!(
         (thermal["time_to_limit_s"].as_f64().unwrap() - 482.83).abs() < 0.5,
         "{thermal}"
@@ -212,7 +212,7 @@ async fn the_fit_recovers_the_reference_curve_and_its_time_to_limit() {
 #[tokio::test]
 async fn a_water_run_gives_the_calorimetric_efficiency_of_the_reference_example() {
     let f = Fixture::new().await;
-    // REFERENCE.md §7 (IAPWS-95 c_p, published): 1.000 kg from 20.0 to 30.0 °C in 120.0 s → 348.4 W;
+    // IAPWS-95 c_p (published): 1.000 kg from 20.0 to 30.0 °C in 120.0 s → 348.4 W;
     // from 24 V × 20 A, 72.6 %.
     let mut readings = Vec::new();
     for k in 0..=12 {

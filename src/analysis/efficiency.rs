@@ -1,5 +1,5 @@
-//! Efficiency three ways, each a fraction of the input power and named by its method
-//! (DESIGN.md, "Efficiency three ways").
+//! Efficiency three ways, each a fraction of the input power and named by its method:
+//! calorimetric, from the model's losses, and against an idle reference.
 
 use serde::{Deserialize, Serialize};
 
@@ -9,7 +9,7 @@ use crate::physics::water::{calorimetric_power_w, water_specific_heat_j_per_kg_k
 /// Efficiency by method; `None` where the run lacks what a method needs.
 #[derive(Debug, Clone, Copy, Default, PartialEq, Serialize)]
 pub struct Efficiency {
-    /// Heat into a water load over input power (REFERENCE §7).
+    /// Heat into a water load over input power (calorimetry, IAPWS-95 c_p).
     pub calorimetric: Option<f64>,
     /// Input power above an idle run's, scaled by V², over input power.
     pub differential: Option<f64>,
@@ -35,7 +35,8 @@ pub fn input_power_w(supply_voltage_v: f64, supply_current_a: f64) -> f64 {
 
 /// Power absorbed by a water load from its temperature readings (time s, °C): the slope of the
 /// least-squares line of temperature against time, with c_p at the mean reading temperature
-/// (REFERENCE §7, IAPWS-95). `None` for fewer than two readings or a mass that is not positive.
+/// (IAPWS-95; Wagner & Pruss 2002). `None` for fewer than two readings or a mass that is not
+/// positive.
 pub fn water_load_power_w(
     water_mass_kg: f64,
     vessel_heat_capacity_j_per_k: f64,
@@ -63,7 +64,7 @@ pub fn calorimetric_efficiency(load_power_w: f64, input_power_w: f64) -> Option<
 
 /// Idle loss at the loaded run's supply: P_idle·(V/V_idle)². With no workpiece the input power
 /// goes into the tank and switches, which scale with the tank voltage squared, and the tank
-/// voltage is proportional to the supply (REFERENCE §2) [derived].
+/// voltage is proportional to the supply (V_p = π·V_in) [derived].
 pub fn idle_loss_at_supply_w(idle: &IdleReference, supply_voltage_v: f64) -> f64 {
     let ratio = supply_voltage_v / idle.supply_voltage_v;
     input_power_w(idle.supply_voltage_v, idle.supply_current_a) * ratio * ratio
@@ -93,7 +94,7 @@ mod tests {
 
     #[test]
     fn reference_calorimetry_example() {
-        // REFERENCE §7 (c_p from IAPWS-95, Wagner & Pruss 2002) [published]: 1.000 kg from
+        // c_p from IAPWS-95 (Wagner & Pruss 2002) [published]: 1.000 kg from
         // 20.0 to 30.0 °C in 120.0 s → 348.4 W; from 24 V × 20 A, 72.6 %.
         let water = [
             (0.0, 20.0),

@@ -152,7 +152,7 @@ mod tests {
 
     #[test]
     fn predicts_seconds_from_now() {
-        // Derived, REFERENCE §8: 85 °C is reached at −100·ln(1 − 60/80) = 100·ln 4 = 138.63 s.
+        // Derived (lumped model): 85 °C is reached at −100·ln(1 − 60/80) = 100·ln 4 = 138.63 s.
         // At 120 s (readings over 1.2 τ) that is 18.63 s away: a warning.
         let r = heating(120.0);
         let m = live_margins_at_loss(&Parts::default(), &r, None, 120.0);

@@ -1,5 +1,5 @@
-//! One operating point of one revision through the driver model (DESIGN.md, "The electrical and
-//! thermal model"; formulas in `crate::physics`).
+//! One operating point of one revision through the driver model (formulas and
+//! their sources in `crate::physics`).
 
 use serde::{Deserialize, Serialize};
 
@@ -80,7 +80,7 @@ pub struct ModelReport {
     /// All chokes together.
     pub choke_dc_loss_w: Option<f64>,
     pub skin_depth_m: Option<f64>,
-    /// Isolated-conductor value: proximity in the winding adds more (REFERENCE.md §4).
+    /// Isolated-conductor value: proximity in the winding adds more (common practice).
     pub coil_ac_resistance_ohm: Option<f64>,
     pub coil_copper_loss_w: Option<f64>,
     pub input_power_w: Option<f64>,
@@ -257,7 +257,7 @@ fn sum_of_known<const N: usize>(terms: [Option<f64>; N]) -> Option<f64> {
     terms.into_iter().flatten().reduce(|sum, term| sum + term)
 }
 
-/// The given inductance, else Wheeler's on the geometry (REFERENCE.md §6).
+/// The given inductance, else Wheeler's on the geometry (Wheeler, Proc. IRE, 1928).
 fn coil_inductance_h(coil: &WorkCoil) -> Option<f64> {
     coil.inductance_h.or_else(|| {
         Some(coil::wheeler_inductance_h(
@@ -268,8 +268,8 @@ fn coil_inductance_h(coil: &WorkCoil) -> Option<f64> {
     })
 }
 
-/// AC resistance of the winding and its leads (REFERENCE.md §4); a round conductor's diameter wins
-/// over its gauge when both are given.
+/// AC resistance of the winding and its leads (skin effect, IEC 60028 copper); a round
+/// conductor's diameter wins over its gauge when both are given.
 fn coil_ac_resistance_ohm(
     coil: &WorkCoil,
     resistivity_ohm_m: f64,
@@ -303,7 +303,7 @@ fn coil_ac_resistance_ohm(
     }
 }
 
-/// Conduction loss and junction temperature of one switch (REFERENCE.md §9). Without R_thJC the
+/// Conduction loss and junction temperature of one switch (derived). Without R_thJC the
 /// junction is taken at the case temperature; a missing R_DS(on) tempco is taken as 0 %/K (the
 /// 25 °C value) and flagged as a note.
 fn switch_thermal(parts: &Parts, supply_current_a: Option<f64>, case_c: f64) -> SwitchThermal {

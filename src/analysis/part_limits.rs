@@ -4,7 +4,7 @@ use serde::Serialize;
 
 use crate::parts::{Parts, Role};
 
-/// Film tank capacitors are "usually rated 85 °C" (REFERENCE §3, datasheet practice); used when
+/// Film tank capacitors are "usually rated 85 °C" (film capacitor datasheet practice); used when
 /// the revision gives no rating.
 pub const TANK_CAPACITOR_ASSUMED_MAX_C: f64 = 85.0;
 
@@ -48,7 +48,7 @@ pub struct PartLimit {
 }
 
 /// Case temperature at which the junction reaches its maximum: T_c = T_j,max − P·R_thJC, from
-/// T_j = T_c + P·R_thJC (REFERENCE §9 [derived]).
+/// T_j = T_c + P·R_thJC [derived].
 pub fn switch_case_limit_c(tj_max_c: f64, switch_loss_w: f64, rth_jc_k_per_w: f64) -> f64 {
     tj_max_c - switch_loss_w * rth_jc_k_per_w
 }
@@ -96,7 +96,7 @@ mod tests {
 
     #[test]
     fn switch_case_limit_subtracts_the_junction_rise() {
-        // Derived from REFERENCE §9: 2.817 W through 0.8 K/W is a 2.25 K rise; tj_max 150 °C.
+        // Derived: 2.817 W through 0.8 K/W is a 2.25 K rise; tj_max 150 °C.
         let parts = Parts {
             switch: Some(Switch {
                 tj_max_c: Some(150.0),
@@ -117,7 +117,7 @@ mod tests {
 
     #[test]
     fn tank_capacitor_without_rating_assumes_85_c() {
-        // REFERENCE §3: rated temperature usually 85 °C [published, datasheet practice].
+        // Film capacitor datasheet practice: rated temperature usually 85 °C.
         let limit = part_limit(&Parts::default(), Role::TankCapacitor, None).unwrap();
         assert_eq!(limit.limit_c, 85.0);
         assert_eq!(limit.basis, LimitBasis::AssumedCapacitorRating);

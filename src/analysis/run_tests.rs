@@ -259,7 +259,7 @@ fn merge_keeps_the_worst_per_code_and_part_and_sorts() {
 
 #[test]
 fn switch_limit_is_the_case_temperature_at_this_loss() {
-    // Derived, REFERENCE §9: tj_max 150 °C − 2.817 W·0.8 K/W = 147.746 °C for the case.
+    // Derived: tj_max 150 °C − 2.817 W·0.8 K/W = 147.746 °C for the case.
     let sw = Channel::PartTemp {
         role: Role::Switch,
         index: None,
@@ -298,7 +298,7 @@ fn untrusted_fit_gives_no_prediction() {
 
 #[test]
 fn water_run_has_a_calorimetric_efficiency() {
-    // REFERENCE §7 [published c_p, IAPWS-95]: 1.000 kg, 20 → 30 °C in 120 s at 24 V × 20 A
+    // IAPWS-95 c_p [published]: 1.000 kg, 20 → 30 °C in 120 s at 24 V × 20 A
     // → 348.4 W, 72.6 %.
     let p = parts();
     let mut r = Vec::new();

@@ -1,6 +1,6 @@
 //! Least-squares first-order fit of a part's temperature readings, and the time to a limit.
 //!
-//! Model (REFERENCE §8, lumped capacitance, Incropera & DeWitt):
+//! Model (lumped capacitance, Incropera & DeWitt):
 //! T(t) = T_final − (T_final − T_start)·e^(−(t − t0)/τ), t0 the first reading's time.
 //! For a fixed τ the model is linear in (T_start, T_final), so those come from a linear least
 //! squares and only τ is searched, on ln τ over span/50 … 50·span: a coarse grid first (the
@@ -129,13 +129,13 @@ impl Serialize for ThermalFit {
 }
 
 /// First-order step response T(Δt) = T_final − (T_final − T_start)·e^(−Δt/τ)
-/// (REFERENCE §8, lumped capacitance; Incropera & DeWitt).
+/// (lumped capacitance; Incropera & DeWitt).
 pub fn first_order_temperature_c(t_start_c: f64, t_final_c: f64, tau_s: f64, dt_s: f64) -> f64 {
     thermal::first_order_temperature_c(t_start_c, t_final_c - t_start_c, tau_s, dt_s)
 }
 
 /// Time from the start of a first-order curve to a limit, t = −τ·ln(1 − (T_lim − T_start)/ΔT)
-/// (REFERENCE §8). Zero when the curve starts at or above the limit; `None` when the limit is not
+/// (derived). Zero when the curve starts at or above the limit; `None` when the limit is not
 /// strictly between T_start and T_final (the curve never gets there, or it cools).
 pub fn time_to_limit_s(t_start_c: f64, t_final_c: f64, tau_s: f64, limit_c: f64) -> Option<f64> {
     if tau_s <= 0.0 {

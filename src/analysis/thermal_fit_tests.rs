@@ -3,7 +3,7 @@ use proptest::prelude::*;
 use super::*;
 use crate::analysis::test_noise::Noise;
 
-/// REFERENCE §8 worked example [published model, Incropera & DeWitt]: T_a 25 °C, ΔT_ss 50 K,
+/// Worked example of the lumped model [published, Incropera & DeWitt]: T_a 25 °C, ΔT_ss 50 K,
 /// τ 300 s.
 fn reference_curve(t_s: f64) -> f64 {
     first_order_temperature_c(25.0, 75.0, 300.0, t_s)
@@ -21,11 +21,11 @@ fn sampled(every_s: f64, until_s: f64, mut f: impl FnMut(f64) -> f64) -> Vec<(f6
 
 #[test]
 fn reference_example_points() {
-    // REFERENCE §8: 34.0635, 41.4840, 47.5594 °C at 60, 120, 180 s.
+    // Lumped model: 34.0635, 41.4840, 47.5594 °C at 60, 120, 180 s.
     for (t, expected) in [(60.0, 34.0635), (120.0, 41.4840), (180.0, 47.5594)] {
         assert!((reference_curve(t) - expected).abs() < 5e-5);
     }
-    // REFERENCE §8: 65 °C at 482.83 s; 80 °C never.
+    // Lumped model: 65 °C at 482.83 s; 80 °C never.
     let t = time_to_limit_s(25.0, 75.0, 300.0, 65.0).unwrap();
     assert!((t - 482.83).abs() < 0.005, "{t}");
     assert_eq!(time_to_limit_s(25.0, 75.0, 300.0, 80.0), None);
@@ -33,7 +33,7 @@ fn reference_example_points() {
 
 #[test]
 fn fit_of_the_reference_example_published_points() {
-    // The example's start (25 °C at 0 s) and its three published points, REFERENCE §8.
+    // The example's start (25 °C at 0 s) and its three points on the lumped model.
     let points = [
         (0.0, 25.0),
         (60.0, 34.0635),
@@ -44,9 +44,9 @@ fn fit_of_the_reference_example_published_points() {
     let t65 = fit.time_to_limit_s(65.0).unwrap();
     assert!(
         (t65 - 482.83).abs() < 0.1,
-        "65 °C at {t65} s, REFERENCE §8 says 482.83 s"
+        "65 °C at {t65} s, the lumped model says 482.83 s"
     );
-    assert_eq!(fit.time_to_limit_s(80.0), None, "REFERENCE §8: 80 °C never");
+    assert_eq!(fit.time_to_limit_s(80.0), None, "lumped model: 80 °C never");
     // 180 s of readings for a 300 s time constant (0.6 τ): enough to be trusted.
     assert!(fit.is_trusted(), "{:?}", fit.trust);
     // 120 s (0.4 τ) is not: the bend of the curve does not fix τ yet.

@@ -2,7 +2,7 @@
 //! running and hot time, and the `part-degrading` flag.
 //!
 //! A part that loses margin run after run on the same revision, or whose rise per watt of loss
-//! grows (a rising thermal resistance at the same loss), is degrading (DESIGN.md, Thermal); a
+//! grows (a rising thermal resistance at the same loss), is degrading; a
 //! tank capacitance that drifts one way run after run is a capacitor on its way to failing
 //! [practice]. Degradation is judged within one revision, where the parts are the same.
 
@@ -209,7 +209,7 @@ pub fn rise_per_watt_k_per_w(rise_k: f64, loss_w: f64) -> Option<f64> {
 
 /// The model's loss in ONE part of `role` (one capacitor of the bank, one choke, one switch):
 /// the heat behind that part's temperature rise. Equal units share the bank's and the chokes'
-/// losses equally (current divides in proportion to capacitance, REFERENCE §3).
+/// losses equally (current divides in proportion to capacitance).
 pub fn part_loss_w(model: &ModelReport, parts: &crate::parts::Parts, role: Role) -> Option<f64> {
     let per_unit = |total: Option<f64>, count: u32| total.map(|w| w / f64::from(count.max(1)));
     match role {

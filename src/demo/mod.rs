@@ -1,7 +1,7 @@
 //! The invented demo scenario that `eddybench demo` seeds: a makerspace's tool-room heater
 //! through four revisions, and a small 12 V heater for an open day.
 //!
-//! Everything is generated, not typed: each run's readings come from the REFERENCE.md formulas
+//! Everything is generated, not typed: each run's readings come from the model's formulas
 //! applied to its revision's parts (see `series`), so the model's predictions agree with the
 //! data it is shown. Deterministic: the same scenario on every start.
 

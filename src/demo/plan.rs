@@ -46,7 +46,8 @@ pub struct BenchSetup {
     /// Core loss of one choke from the ripple, roughly constant at a given supply.
     pub choke_core_loss_w: f64,
     pub coil: ThermalPath,
-    /// Factor on the isolated-conductor AC resistance for the neighbouring turns (§4: 1.5–3).
+    /// Factor on the isolated-conductor AC resistance for the neighbouring turns (1.5–3,
+    /// common practice).
     pub coil_proximity_factor: f64,
     /// Supply droop plus lead resistance: the terminal voltage sags by this times the current.
     pub supply_sag_ohm: f64,
@@ -57,10 +58,10 @@ pub struct BenchSetup {
 pub struct Workpiece {
     /// Power delivered into the part (or the calorimeter's vessel and water).
     pub power_w: f64,
-    /// When a ferrous part passes its Curie point (770 °C, §12) and heating slows.
+    /// When a ferrous part passes its Curie point (770 °C) and heating slows.
     pub curie_at_s: Option<f64>,
     pub power_above_curie_w: f64,
-    /// Relative shift of the frequency with the part in the coil (§12: small).
+    /// Relative shift of the frequency with the part in the coil (small, common practice).
     pub frequency_shift: f64,
     pub frequency_shift_above_curie: f64,
 }

@@ -1,4 +1,4 @@
-//! Turns a run plan into bench readings: the operating point from the REFERENCE formulas at each
+//! Turns a run plan into bench readings: the operating point from the model's formulas at each
 //! sample, the part temperatures stepped along first-order curves, and a little noise.
 
 use std::f64::consts::PI;
@@ -122,7 +122,7 @@ fn losses(
 ) -> Losses {
     let vrms = tank_vrms_v(supply_v);
     let omega = 2.0 * PI * frequency_hz;
-    // §3: P = Q·tan δ per unit, Q = Vrms²·ω·C.
+    // Textbook: P = Q·tan δ per unit, Q = Vrms²·ω·C.
     let capacitor_unit_w = bank
         .unit_capacitance_f
         .iter()
@@ -133,7 +133,7 @@ fn losses(
     let coil_w = coil_a
         * coil_a
         * coil_ac_resistance_ohm(driver.coil, frequency_hz, bench.coil_proximity_factor);
-    // §9: each switch carries the supply current half the time, at its junction temperature.
+    // Derived: each switch carries the supply current half the time, at its junction temperature.
     let sw = driver.switch;
     let (r25, tempco, rth_jc) = (
         sw.rds_on_ohm.unwrap_or(0.0),
@@ -221,7 +221,7 @@ pub fn generate(seed: &str, revision: &RevisionPlan, plan: &RunPlan) -> DemoRun 
     let bench = &revision.bench;
     let bank = Bank::of(driver.capacitor, plan);
     let count = bank.unit_capacitance_f.len();
-    // §1 [derived]: the idle choke sits across the tank.
+    // Derived: the idle choke sits across the tank.
     let tank_inductance_h = parallel_h(driver.coil_inductance_h(), driver.choke.inductance_h);
     let unloaded_hz = resonant_frequency_hz(tank_inductance_h, bank.capacitance_f());
     let capacitor_limit_c = driver.capacitor.max_temp_c.unwrap_or(f64::INFINITY);
@@ -333,7 +333,7 @@ pub fn generate(seed: &str, revision: &RevisionPlan, plan: &RunPlan) -> DemoRun 
         let choke_rise_k = loss.choke_each_w * bench.choke.k_per_w;
         choke_c = first_order_step_c(choke_c, ambient_c, choke_rise_k, dt, bench.choke.tau_s);
         if let (Some(w), Some(cup)) = (water_c.as_mut(), plan.water) {
-            // §7: all of the workpiece power goes into the water and its vessel.
+            // Calorimetry: all of the workpiece power goes into the water and its vessel.
             *w += workpiece_w * dt / calorimeter_heat_capacity_j_per_k(&cup);
         }
     }
@@ -369,7 +369,7 @@ pub fn generate(seed: &str, revision: &RevisionPlan, plan: &RunPlan) -> DemoRun 
     }
 }
 
-/// §7: m_w·c_w + C_vessel.
+/// Calorimetry: m_w·c_w + C_vessel.
 pub fn calorimeter_heat_capacity_j_per_k(cup: &super::plan::WaterCup) -> f64 {
     cup.water_mass_kg * super::bench::WATER_CP_J_PER_KG_K + cup.vessel_heat_capacity_j_per_k
 }

@@ -1,5 +1,6 @@
-//! The scenario must agree with REFERENCE.md, since the model will be checked against it on
-//! screen. Each check recomputes its formula here rather than calling the generator's.
+//! The scenario must agree with the model's published formulas, since the model will be
+//! checked against it on screen. Each check recomputes its formula here rather than calling the
+//! generator's.
 
 use std::f64::consts::PI;
 
@@ -73,7 +74,7 @@ fn builds_have_revisions_in_order_and_runs_on_them() {
 
 #[test]
 fn frequency_agrees_with_the_tank() {
-    // REFERENCE §1 [derived]: f ≈ 1/(2π√((L‖Lch)·C)), L the coil's measured inductance_h.
+    // Derived: f ≈ 1/(2π√((L‖Lch)·C)), L the coil's measured inductance_h.
     for (build, run) in all_runs() {
         let rev = revision(&build, &run);
         let l = rev.parts.work_coil.as_ref().unwrap().inductance_h.unwrap();
@@ -96,7 +97,7 @@ fn frequency_agrees_with_the_tank() {
 
 #[test]
 fn coil_inductance_is_near_wheeler() {
-    // REFERENCE §6, Wheeler 1928 [published]; the given value adds the leads.
+    // Wheeler, Proc. IRE 1928 [published]; the given value adds the leads.
     for build in scenario() {
         for rev in &build.revisions {
             let coil = rev.parts.work_coil.as_ref().unwrap();
@@ -112,7 +113,7 @@ fn coil_inductance_is_near_wheeler() {
 
 #[test]
 fn calorimeter_slope_gives_the_workpiece_power() {
-    // REFERENCE §7: P = (m·c_w + C_vessel)·dT/dt, c_w 4181.3 J/(kg·K) at 25 °C (IAPWS-95).
+    // Calorimetry: P = (m·c_w + C_vessel)·dT/dt, c_w 4181.3 J/(kg·K) at 25 °C (IAPWS-95).
     let mut checked = 0;
     for (build, plan) in scenario().iter().zip(plans()) {
         for (run, run_plan) in build.runs.iter().zip(&plan.runs) {
@@ -211,7 +212,7 @@ fn readings_are_plausible_and_named() {
         if let Some(limit_a) = run.supply_current_limit_a {
             assert!(peak_a < limit_a);
         }
-        // REFERENCE §2 rule of thumb: the switches see π·Vin.
+        // Rule of thumb (common practice): the switches see π·Vin.
         let vds_max_v = rev.parts.switch.as_ref().unwrap().vds_max_v.unwrap();
         assert!(PI * run.supply_setting_v < 0.8 * vds_max_v);
     }
@@ -219,7 +220,7 @@ fn readings_are_plausible_and_named() {
 
 #[test]
 fn a_workpiece_loads_the_supply_but_barely_moves_the_frequency() {
-    // REFERENCE §12 [practice].
+    // Common practice.
     for build in scenario() {
         for idle in build.runs.iter().filter(|r| r.load == "none") {
             let idle_a = mean(&values(idle, Channel::SupplyCurrent));
@@ -256,7 +257,7 @@ fn a_workpiece_loads_the_supply_but_barely_moves_the_frequency() {
 
 #[test]
 fn the_latest_revision_shows_capacitance_drift() {
-    // Inferred C ∝ 1/f² at fixed L (REFERENCE §1): rising frequency at idle is lost capacitance.
+    // Inferred C ∝ 1/f² at fixed L (derived): rising frequency at idle is lost capacitance.
     let main = &scenario()[0];
     let latest = &main.revisions.last().unwrap().label;
     let idle: Vec<&DemoRun> = main

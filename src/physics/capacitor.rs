@@ -1,17 +1,18 @@
-//! Tank capacitor losses and ratings (REFERENCE.md §3).
+//! Tank capacitor losses and ratings (TDK/EPCOS, *Film Capacitors — General technical
+//! information*, 2015; makers' datasheet practice).
 
 /// P = Q·tan δ, the dielectric and ohmic loss of a capacitor carrying reactive power Q
-/// (REFERENCE.md §3, textbook).
+/// (any circuits textbook).
 pub fn loss_from_dissipation_factor_w(reactive_power_var: f64, dissipation_factor: f64) -> f64 {
     reactive_power_var * dissipation_factor
 }
 
-/// P = I_rms²·ESR for one unit (REFERENCE.md §3, textbook).
+/// P = I_rms²·ESR for one unit (any circuits textbook).
 pub fn loss_from_esr_w(rms_current_a: f64, esr_ohm: f64) -> f64 {
     rms_current_a * rms_current_a * esr_ohm
 }
 
-/// ESR = tan δ/(ω·C) (REFERENCE.md §3, textbook).
+/// ESR = tan δ/(ω·C) (any circuits textbook).
 pub fn esr_from_dissipation_factor_ohm(
     dissipation_factor: f64,
     frequency_hz: f64,
@@ -20,16 +21,16 @@ pub fn esr_from_dissipation_factor_ohm(
     dissipation_factor / (super::angular_frequency_rad_per_s(frequency_hz) * capacitance_f)
 }
 
-/// Temperature above which film capacitor voltage ratings are derated (REFERENCE.md §3,
-/// published datasheet practice).
+/// Temperature above which film capacitor voltage ratings are derated (film
+/// capacitor datasheet practice).
 pub const DERATING_START_C: f64 = 85.0;
 
-/// Fraction of the rating lost per kelvin above [`DERATING_START_C`]: 1.25 %/K (REFERENCE.md §3,
-/// published datasheet practice).
+/// Fraction of the rating lost per kelvin above [`DERATING_START_C`]: 1.25 %/K (film
+/// capacitor datasheet practice).
 pub const DERATING_PER_K: f64 = 0.0125;
 
 /// The voltage rating at a capacitor temperature: full up to 85 °C, then −1.25 %/K, never below
-/// zero (REFERENCE.md §3, published datasheet practice).
+/// zero (film capacitor datasheet practice).
 pub fn derated_voltage_rating_v(rating_v: f64, capacitor_temp_c: f64) -> f64 {
     let excess_k = (capacitor_temp_c - DERATING_START_C).max(0.0);
     rating_v * (1.0 - DERATING_PER_K * excess_k).max(0.0)
@@ -41,7 +42,7 @@ mod tests {
 
     #[test]
     fn derating_starts_at_85_c() {
-        // REFERENCE.md §3 (published datasheet practice): full rating at 85 °C, 1.25 %/K above,
+        // Film capacitor datasheet practice: full rating at 85 °C, 1.25 %/K above,
         // so 100 °C keeps 81.25 %.
         assert_eq!(derated_voltage_rating_v(400.0, 25.0), 400.0);
         assert_eq!(derated_voltage_rating_v(400.0, 85.0), 400.0);

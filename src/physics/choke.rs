@@ -1,15 +1,15 @@
-//! Supply chokes (REFERENCE.md §11).
+//! Supply chokes (derived from the idealised driver waveforms).
 
 use super::angular_frequency_rad_per_s;
 use std::f64::consts::PI;
 
 /// k = 2·asin(1/π) + 2·√(π² − 1) − π ≈ 3.4627: the volt-seconds over the half-sine-and-flat drain
-/// waveform, in units of V_in/ω (REFERENCE.md §11, derived).
+/// waveform, in units of V_in/ω (derived).
 pub fn ripple_constant() -> f64 {
     2.0 * (1.0 / PI).asin() + 2.0 * (PI * PI - 1.0).sqrt() - PI
 }
 
-/// ΔI_pp = k·V_in/(2π·f·L_ch), the peak-to-peak ripple in each choke (REFERENCE.md §11, derived).
+/// ΔI_pp = k·V_in/(2π·f·L_ch), the peak-to-peak ripple in each choke (derived from V = L·dI/dt).
 pub fn ripple_a_pp(supply_voltage_v: f64, frequency_hz: f64, inductance_h: f64) -> f64 {
     ripple_constant() * supply_voltage_v
         / (angular_frequency_rad_per_s(frequency_hz) * inductance_h)
@@ -32,7 +32,7 @@ mod tests {
 
     #[test]
     fn ripple_constant_is_about_3_4627() {
-        // REFERENCE.md §11 (derived): k ≈ 3.4627.
+        // Derived: k ≈ 3.4627.
         assert!(
             (ripple_constant() - 3.4627).abs() < 5e-5,
             "{}",

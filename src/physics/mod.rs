@@ -1,8 +1,8 @@
 //! Pure formulas of the driver, one per function, on `f64` in SI units.
 //!
-//! Each function names its source and the marker REFERENCE.md gives it: **published** (the source
-//! was read), **memory** (the citation is from memory), **derived** (follows from the idealised
-//! circuit) or **practice** (common practice of the trade, no source).
+//! Each function names its published source, or says what it is instead: **derived** (follows
+//! from the idealised circuit and a published relation) or **common practice** (a rule of the
+//! trade with no published source found); a citation not rechecked says so.
 
 /// Tank capacitor losses and voltage derating.
 pub mod capacitor;
@@ -29,8 +29,8 @@ pub mod water;
 /// American Wire Gauge diameters.
 pub mod wire_gauge;
 
-/// Vacuum permeability μ0 = 4π·10⁻⁷ H/m (REFERENCE.md, preamble); the pre-2019 exact value, within
-/// 1e-9 of the present measured one.
+/// Vacuum permeability μ0 = 4π·10⁻⁷ H/m, exact in the SI before 2019; within 1e-9 of the present
+/// measured one.
 pub const VACUUM_PERMEABILITY_H_PER_M: f64 = 4.0e-7 * std::f64::consts::PI;
 
 /// Angular frequency ω = 2π·f.

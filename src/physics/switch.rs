@@ -1,13 +1,13 @@
-//! Switch conduction loss and junction temperature (REFERENCE.md §9).
+//! Switch conduction loss and junction temperature (derived from the driver waveforms).
 
-/// R_DS(on)(T) = R25·(1 + a/100)^(T − 25), a in %/K (REFERENCE.md §9, memory: MOSFET power-loss
-/// application notes, a ≈ 0.5–0.7 %/K).
+/// R_DS(on)(T) = R25·(1 + a/100)^(T − 25), a in %/K, a ≈ 0.5–0.7 %/K (common
+/// practice of MOSFET power-loss application notes; no single published source checked).
 pub fn rds_on_ohm(rds_on_25c_ohm: f64, tempco_pct_per_k: f64, junction_temp_c: f64) -> f64 {
     rds_on_25c_ohm * (1.0 + tempco_pct_per_k / 100.0).powf(junction_temp_c - 25.0)
 }
 
 /// P = I_in²·R_DS(on)/2 per switch: each carries about the whole supply current for half a period,
-/// I_rms = I_in/√2 (REFERENCE.md §9, derived from §2).
+/// I_rms = I_in/√2 (derived from the drain waveform, V_p = π·V_in).
 pub fn conduction_loss_w(supply_current_a: f64, rds_on_ohm: f64) -> f64 {
     supply_current_a * supply_current_a * rds_on_ohm / 2.0
 }
@@ -22,8 +22,8 @@ pub enum JunctionState {
     Runaway,
 }
 
-/// Solves T_j = T_c + R_thJC·P(T_j) with P(T) = I²·R25·b^(T−25)/2, b = 1 + a/100 (REFERENCE.md §9,
-/// derived). g(T) = T_c + R_thJC·P(T) − T is convex and g(T_c) ≥ 0, so a root below the limit
+/// Solves T_j = T_c + R_thJC·P(T_j) with P(T) = I²·R25·b^(T−25)/2, b = 1 + a/100
+/// (derived). g(T) = T_c + R_thJC·P(T) − T is convex and g(T_c) ≥ 0, so a root below the limit
 /// exists exactly when g's minimum over [T_c, limit] is ≤ 0; the lowest root (the one the part
 /// heats up to) is then bracketed by T_c and that minimum and found by bisection. Bounded work,
 /// no iteration that could run forever.

@@ -1,8 +1,9 @@
-//! First-order (lumped) thermal response (REFERENCE.md §8).
+//! First-order (lumped) thermal response (Incropera & DeWitt, *Fundamentals of Heat and
+//! Mass Transfer*).
 
 /// T(t) = T_a + ΔT_ss·(1 − e^(−t/τ)), a part heating from ambient towards a steady rise ΔT_ss with
 /// time constant τ. Incropera & DeWitt, *Fundamentals of Heat and Mass Transfer*, lumped
-/// capacitance, valid for Biot < 0.1 (REFERENCE.md §8, published).
+/// capacitance, valid for Biot < 0.1 (published).
 pub fn first_order_temperature_c(
     ambient_c: f64,
     steady_rise_k: f64,
@@ -13,8 +14,8 @@ pub fn first_order_temperature_c(
 }
 
 /// t = −τ·ln(1 − (T_lim − T_a)/ΔT_ss), the time the first-order response takes to reach a limit;
-/// `None` when it never does (T_lim ≥ T_a + ΔT_ss), zero when it starts there (REFERENCE.md §8,
-/// published).
+/// `None` when it never does (T_lim ≥ T_a + ΔT_ss), zero when it starts there
+/// (Incropera & DeWitt, lumped capacitance, solved for t).
 pub fn time_to_limit_s(
     ambient_c: f64,
     steady_rise_k: f64,
@@ -31,7 +32,7 @@ pub fn time_to_limit_s(
     Some(-time_constant_s * (1.0 - needed_k / steady_rise_k).ln())
 }
 
-/// τ = m·c/(h·A), the lumped-capacitance time constant (REFERENCE.md §8, published).
+/// τ = m·c/(h·A), the lumped-capacitance time constant (Incropera & DeWitt).
 pub fn lumped_time_constant_s(
     mass_kg: f64,
     specific_heat_j_per_kg_k: f64,

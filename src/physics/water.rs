@@ -1,7 +1,7 @@
-//! Calorimetry with a water load (REFERENCE §7).
+//! Calorimetry with a water load (IAPWS-95 c_p).
 
 /// Isobaric specific heat of liquid water at 101.325 kPa, J/(kg·K), by temperature in °C.
-/// IAPWS-95 (Wagner & Pruss, J. Phys. Chem. Ref. Data 31(2), 2002), as tabulated in REFERENCE §7.
+/// IAPWS-95 (Wagner & Pruss, J. Phys. Chem. Ref. Data 31(2), 2002).
 const WATER_CP_TABLE: [(f64, f64); 6] = [
     (20.0, 4184.1),
     (25.0, 4181.3),
@@ -11,7 +11,7 @@ const WATER_CP_TABLE: [(f64, f64); 6] = [
     (80.0, 4196.8),
 ];
 
-/// c_p of water at `t_c`, linearly interpolated in the IAPWS-95 table of REFERENCE §7.
+/// c_p of water at `t_c`, linearly interpolated in the IAPWS-95 table above.
 /// Outside 20–80 °C the end value is held: c_p changes by under 1 % down to 0 °C and up to
 /// 100 °C, far less than a bench calorimeter's other errors.
 pub fn water_specific_heat_j_per_kg_k(t_c: f64) -> f64 {
@@ -34,7 +34,7 @@ pub fn water_specific_heat_j_per_kg_k(t_c: f64) -> f64 {
         .unwrap_or(last.1)
 }
 
-/// Heating power absorbed by a water load: P = (m_w·c_w + C_vessel)·dT/dt (REFERENCE §7).
+/// Heating power absorbed by a water load: P = (m_w·c_w + C_vessel)·dT/dt (calorimetry).
 pub fn calorimetric_power_w(
     water_mass_kg: f64,
     water_specific_heat_j_per_kg_k: f64,
@@ -51,7 +51,7 @@ mod tests {
 
     #[test]
     fn table_points_and_interpolation() {
-        // IAPWS-95 values of REFERENCE §7 [published].
+        // IAPWS-95 values [published].
         assert_eq!(water_specific_heat_j_per_kg_k(25.0), 4181.3);
         assert_eq!(water_specific_heat_j_per_kg_k(60.0), 4185.0);
         // Halfway between 40 °C (4179.4) and 60 °C (4185.0) [derived: linear interpolation].
@@ -63,7 +63,7 @@ mod tests {
 
     #[test]
     fn reference_example_power() {
-        // REFERENCE §7 [published c_p, IAPWS-95]: 1.000 kg, 20.0 → 30.0 °C in 120.0 s → 348.4 W,
+        // IAPWS-95 c_p [published]: 1.000 kg, 20.0 → 30.0 °C in 120.0 s → 348.4 W,
         // with c_p at the mean 25 °C.
         let p_w =
             calorimetric_power_w(1.0, water_specific_heat_j_per_kg_k(25.0), 0.0, 10.0 / 120.0);

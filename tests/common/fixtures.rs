@@ -56,7 +56,7 @@ pub fn gate_resistor(resistance_ohm: f64) -> GateResistor {
     }
 }
 
-/// The tank of REFERENCE.md §1–§2: L = 1 µH, C = 1 µF, no chokes.
+/// The worked-example tank: L = 1 µH, C = 1 µF, no chokes.
 pub fn reference_tank() -> Parts {
     Parts {
         tank_capacitor: Some(capacitor(1e-6, 1)),

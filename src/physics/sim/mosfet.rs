@@ -1,6 +1,6 @@
 //! The switching MOSFET's channel: the square-law model of H. Shichman & D. A. Hodges,
 //! "Modeling and simulation of insulated-gate field-effect transistor switching circuits",
-//! IEEE J. Solid-State Circuits SC-3(3), 1968 (cited from memory), with the datasheet's
+//! IEEE J. Solid-State Circuits SC-3(3), 1968 (not rechecked), with the datasheet's
 //! R_DS(on) as a resistance in series with the drain, as ngspice's VDMOS model places it
 //! (ngspice manual, "Power MOSFET model (VDMOS)").
 //!
