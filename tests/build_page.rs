@@ -71,7 +71,11 @@ async fn the_charts_across_runs_carry_their_series_and_the_numbers_behind_them()
     let (app, session) = demo_app().await;
     let page = app.get("/builds/tool-room-heater", Some(&session)).await;
     assert_eq!(page.count("#trends figure.chart svg[role=img]"), 5);
-    let margin_series = page.select_texts("#tool-room-heater-margins g.series text.series-label");
+    // Each series is named at its line's end, or in a legend when the ends crowd.
+    let margin_series = page.select_texts(
+        "#tool-room-heater-margins g.series text.series-label, \
+         #tool-room-heater-margins g.legend text.legend-label",
+    );
     assert!(
         margin_series.iter().any(|s| s.starts_with("Tank capac")),
         "{margin_series:?}"

@@ -165,7 +165,7 @@ impl Demo {
             "{}",
             created.body
         );
-        assert_eq!(created.count("script[src='/static/copy.js']"), 1);
+        assert_eq!(created.count("script[src^='/static/copy.'][src$='.js']"), 1);
         let path = url
             .strip_prefix(ORIGIN)
             .unwrap_or_else(|| panic!("{url} is on this site"))

@@ -118,14 +118,8 @@ impl<'a> ReadingBounds<'a> {
                 )
             });
         }
-        let (low, high) = channel.plausible_range();
-        if !(low..=high).contains(&value) {
-            return Err(format!(
-                "{} is outside the plausible range {} to {}",
-                eng(value, unit),
-                eng(low, unit),
-                eng(high, unit)
-            ));
+        if let Some(message) = channel.range_error(value) {
+            return Err(message);
         }
         Ok(value)
     }
